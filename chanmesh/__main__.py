@@ -1,0 +1,5 @@
+import sys
+
+from chanmesh.cli import main
+
+sys.exit(main())

@@ -1,0 +1,64 @@
+"""The ``chanmesh`` command. Each subcommand is a module ``chanmesh/cli/cmd_<name>.py`` that
+defines ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args) -> int``; modules are
+discovered, so adding a command touches no other file.
+
+Only this module turns chanmesh's own errors into a one-line message and an exit code:
+2 for bad input (design, file, option), 130 for an interrupt.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import pkgutil
+import sys
+from types import ModuleType
+
+from chanmesh import __version__
+from chanmesh.errors import ChanmeshError
+
+EXIT_INPUT = 2
+EXIT_INTERRUPT = 130
+
+
+def _commands() -> list[ModuleType]:
+    pkg = importlib.import_module("chanmesh.cli")
+    mods = []
+    for info in pkgutil.iter_modules(pkg.__path__):
+        if info.name.startswith("cmd_"):
+            mods.append(importlib.import_module(f"chanmesh.cli.{info.name}"))
+    return sorted(mods, key=lambda m: getattr(m, "ORDER", 50))
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="chanmesh",
+        description="Labelled, wall-graded 3D meshes of curved microchannels from a design file.",
+    )
+    parser.add_argument("--version", action="version", version=f"chanmesh {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for mod in _commands():
+        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP)
+        mod.add_arguments(p)
+        p.set_defaults(_run=mod.run)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "_run", None):
+        parser.print_help()
+        return EXIT_INPUT
+    try:
+        return int(args._run(args) or 0)
+    except ChanmeshError as exc:
+        print(f"chanmesh {args.command}: error: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print(f"chanmesh {args.command}: interrupted; no partial output was left under a final name", file=sys.stderr)
+        return EXIT_INTERRUPT
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,31 @@
+"""The design: what the user asks for, as frozen dataclasses in SI units."""
+
+from chanmesh.design.model import (
+    ArcPath,
+    ChambersPath,
+    Design,
+    FlowSpec,
+    MeshSpec,
+    Outlets,
+    Path,
+    Section,
+    SerpentinePath,
+    SpiralPath,
+)
+from chanmesh.design.load import design_from_dict, load_design, loads_design
+
+__all__ = [
+    "ArcPath",
+    "ChambersPath",
+    "Design",
+    "FlowSpec",
+    "MeshSpec",
+    "Outlets",
+    "Path",
+    "Section",
+    "SerpentinePath",
+    "SpiralPath",
+    "design_from_dict",
+    "load_design",
+    "loads_design",
+]

@@ -1,0 +1,299 @@
+"""Read a TOML design file into a ``Design``: types checked, lengths converted to metres.
+
+The file is parsed as data only (``tomllib``); nothing in it is executed. Every problem is a
+``DesignError`` naming the key: unknown keys get the closest known key suggested, wrong types
+say which type was expected. Ranges and feasibility are checked afterwards by
+``chanmesh.design.checks.check_design``.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import sys
+from dataclasses import dataclass
+from pathlib import Path as FsPath
+from typing import Any, Callable
+
+from chanmesh.design.model import (
+    PATH_KINDS,
+    Design,
+    FlowSpec,
+    MeshSpec,
+    Outlets,
+    Section,
+)
+from chanmesh.errors import MISSING, DesignError
+from chanmesh.units import length_unit, parse_flow_rate, parse_length, parse_temperature, parse_velocity
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
+
+
+@dataclass(frozen=True)
+class Key:
+    """One design-file key: how to read it and whether it is required."""
+
+    read: Callable[[str, Any, float], Any]
+    required: bool = False
+    default: Any = None
+
+
+# --- readers: (full key, raw value, metres per design unit) -> value ---------------------------
+
+
+def _number(key: str, raw: Any) -> float:
+    if isinstance(raw, bool) or not isinstance(raw, (int, float)):
+        raise DesignError(key, raw, f"must be a number, not {type(raw).__name__}")
+    if not math.isfinite(raw):
+        raise DesignError(key, raw, "must be a finite number")
+    return float(raw)
+
+
+def read_length(key: str, raw: Any, scale: float) -> float:
+    """A length in design units (a plain number) or with its own unit (``'1.5mm'``)."""
+    if isinstance(raw, str):
+        return parse_length(key, raw)
+    return _number(key, raw) / round(1.0 / scale)
+
+
+def read_float(key: str, raw: Any, scale: float) -> float:
+    return _number(key, raw)
+
+
+def read_int(key: str, raw: Any, scale: float) -> int:
+    if isinstance(raw, bool) or not isinstance(raw, int):
+        if isinstance(raw, float) and raw.is_integer():
+            return int(raw)
+        raise DesignError(key, raw, f"must be a whole number, not {type(raw).__name__}")
+    return raw
+
+
+def read_bool(key: str, raw: Any, scale: float) -> bool:
+    if not isinstance(raw, bool):
+        raise DesignError(key, raw, "must be true or false")
+    return raw
+
+
+def read_str(key: str, raw: Any, scale: float) -> str:
+    if not isinstance(raw, str):
+        raise DesignError(key, raw, f"must be a text string, not {type(raw).__name__}")
+    return raw
+
+
+def read_float_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
+    if not isinstance(raw, list):
+        raise DesignError(key, raw, "must be a list of numbers, e.g. [0.3, 0.7]")
+    return tuple(_number(f"{key}[{i}]", v) for i, v in enumerate(raw))
+
+
+def read_length_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
+    if not isinstance(raw, list):
+        raise DesignError(key, raw, "must be a list of lengths, e.g. [7, 15] or ['7um', '15um']")
+    return tuple(read_length(f"{key}[{i}]", v, scale) for i, v in enumerate(raw))
+
+
+def read_station_list(key: str, raw: Any, scale: float) -> tuple[Any, ...]:
+    """Stations stay as written (fraction, ``'12.5mm'``, ``'90deg'``, ``'turn=2.25'``)."""
+    if not isinstance(raw, list):
+        raise DesignError(key, raw, "must be a list of stations, e.g. [0.25, 0.5, '90deg']")
+    for i, v in enumerate(raw):
+        if isinstance(v, bool) or not isinstance(v, (int, float, str)):
+            raise DesignError(f"{key}[{i}]", v, "must be a fraction, a length with unit, or an angle")
+    return tuple(raw)
+
+
+def _rate(key: str, raw: Any, scale: float) -> float:
+    return parse_flow_rate(key, raw)
+
+
+def _velocity(key: str, raw: Any, scale: float) -> float:
+    return parse_velocity(key, raw)
+
+
+def _temperature(key: str, raw: Any, scale: float) -> float:
+    if isinstance(raw, (int, float)) and not isinstance(raw, bool):
+        return float(raw) + 273.15  # plain numbers are degrees Celsius
+    return parse_temperature(key, raw)
+
+
+# --- the schema ---------------------------------------------------------------------------------
+
+SECTION_KEYS: dict[str, Key] = {
+    "shape": Key(read_str, default="rectangle"),
+    "width": Key(read_length, required=True),
+    "height": Key(read_length),
+    "height_inner": Key(read_length),
+    "height_outer": Key(read_length),
+}
+
+LEAD_KEYS: dict[str, Key] = {
+    "inlet_length": Key(read_length, default=0.0),
+    "outlet_length": Key(read_length, default=0.0),
+}
+
+PATH_KEYS: dict[str, dict[str, Key]] = {
+    "arc": {"radius": Key(read_length, required=True), "angle": Key(read_float, required=True)},
+    "spiral": {
+        "inner_radius": Key(read_length, required=True),
+        "pitch": Key(read_length, required=True),
+        "turns": Key(read_float, required=True),
+    },
+    "serpentine": {
+        "radius": Key(read_length, required=True),
+        "straight": Key(read_length, required=True),
+        "periods": Key(read_int, required=True),
+    },
+    "chambers": {
+        "count": Key(read_int, required=True),
+        "chamber_length": Key(read_length, required=True),
+        "chamber_width": Key(read_length, required=True),
+        "throat_length": Key(read_length, required=True),
+        "one_sided": Key(read_bool, default=False),
+    },
+}
+
+OUTLET_KEYS: dict[str, Key] = {"split": Key(read_float_list, default=())}
+
+MESH_KEYS: dict[str, Key] = {
+    "cells": Key(read_str, default="tet"),
+    "cells_across": Key(read_int, default=12),
+    "wall_ratio": Key(read_float, default=1.2),
+    "first_cell": Key(read_length),
+    "cells_high": Key(read_int),
+    "cells_along": Key(read_int),
+    "along_aspect": Key(read_float, default=2.0),
+    "max_cells": Key(read_int, default=5_000_000),
+    "sections": Key(read_station_list, default=()),
+    "threads": Key(read_int, default=2),
+}
+
+FLOW_KEYS: dict[str, Key] = {
+    "rate": Key(_rate),
+    "velocity": Key(_velocity),
+    "fluid": Key(read_str, default="water"),
+    "temperature": Key(_temperature, default=298.15),
+    "density": Key(read_float),
+    "viscosity": Key(read_float),
+    "particles": Key(read_length_list, default=()),
+    "lift_coefficient": Key(read_float, default=0.5),
+    "dean_low": Key(read_float, default=1.0),
+    "dean_high": Key(read_float, default=30.0),
+}
+
+TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow")
+
+
+def _unknown(key: str, known: list[str]) -> DesignError:
+    guess = difflib.get_close_matches(key.rsplit(".", 1)[-1], known, n=1, cutoff=0.5)
+    hint = f"; did you mean {guess[0]!r}?" if guess else ""
+    return DesignError(key, "(unknown key)", f"is not a design key here; known keys: {', '.join(known)}{hint}")
+
+
+def _table(raw: Any, where: str) -> dict[str, Any]:
+    if raw is None:
+        return {}
+    if not isinstance(raw, dict):
+        raise DesignError(where, raw, f"must be a table [{where}]")
+    return raw
+
+
+def read_table(raw: dict[str, Any], where: str, keys: dict[str, Key], scale: float) -> dict[str, Any]:
+    """Read one TOML table against its schema; unknown keys are errors, defaults filled in."""
+    for k in raw:
+        if k not in keys:
+            raise _unknown(f"{where}.{k}", list(keys))
+    out: dict[str, Any] = {}
+    for k, spec in keys.items():
+        full = f"{where}.{k}"
+        if k in raw:
+            out[k] = spec.read(full, raw[k], scale)
+        elif spec.required:
+            raise DesignError(full, MISSING, "is required")
+        else:
+            out[k] = spec.default
+    return out
+
+
+def design_from_dict(data: dict[str, Any]) -> Design:
+    """Build and check a ``Design`` from parsed TOML data."""
+    from chanmesh.design.checks import check_design
+
+    for k in data:
+        if k not in TOP_KEYS:
+            raise _unknown(k, list(TOP_KEYS))
+    unit = data.get("unit", "um")
+    scale = length_unit("unit", unit)
+    name = data.get("name", MISSING)
+    if name is MISSING:
+        raise DesignError("name", MISSING, "is required: a short name for the outputs, e.g. 'my-spiral'")
+    name = read_str("name", name, scale)
+
+    section = _section(read_table(_required_table(data, "section"), "section", SECTION_KEYS, scale))
+
+    path_raw = _required_table(data, "path")
+    kind = path_raw.get("kind", MISSING)
+    if kind not in PATH_KINDS:
+        raise DesignError("path.kind", kind, f"must be one of {', '.join(repr(k) for k in PATH_KINDS)}")
+    fields = read_table({k: v for k, v in path_raw.items() if k != "kind"}, "path", {**PATH_KEYS[kind], **LEAD_KEYS}, scale)
+    path = PATH_KINDS[kind](**fields)
+
+    outlets = Outlets(**read_table(_table(data.get("outlets"), "outlets"), "outlets", OUTLET_KEYS, scale))
+    mesh = MeshSpec(**read_table(_table(data.get("mesh"), "mesh"), "mesh", MESH_KEYS, scale))
+    flow = FlowSpec(**read_table(_table(data.get("flow"), "flow"), "flow", FLOW_KEYS, scale))
+    design = Design(name=name, section=section, path=path, outlets=outlets, mesh=mesh, flow=flow, unit=unit)
+    check_design(design)
+    return design
+
+
+def _required_table(data: dict[str, Any], where: str) -> dict[str, Any]:
+    if where not in data:
+        raise DesignError(f"[{where}]", MISSING, f"the design needs a [{where}] table")
+    return _table(data[where], where)
+
+
+def _section(sec: dict[str, Any]) -> Section:
+    shape = sec["shape"]
+    if shape == "rectangle":
+        for k in ("height_inner", "height_outer"):
+            if sec[k] is not None:
+                raise DesignError(f"section.{k}", sec[k], "applies to shape = 'trapezoid' only; a rectangle takes 'height'")
+        if sec["height"] is None:
+            raise DesignError("section.height", MISSING, "is required for shape = 'rectangle'")
+        h = sec["height"]
+        return Section("rectangle", sec["width"], h, h)
+    if shape == "trapezoid":
+        if sec["height"] is not None:
+            raise DesignError("section.height", sec["height"], "a trapezoid takes 'height_inner' and 'height_outer' instead")
+        for k in ("height_inner", "height_outer"):
+            if sec[k] is None:
+                raise DesignError(f"section.{k}", MISSING, "is required for shape = 'trapezoid'")
+        return Section("trapezoid", sec["width"], sec["height_inner"], sec["height_outer"])
+    raise DesignError("section.shape", shape, "must be 'rectangle' or 'trapezoid'")
+
+
+def loads_design(text: str, source: str = "<design>") -> Design:
+    """Parse design text (TOML)."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise DesignError(source, "(not TOML)", f"is not a valid TOML design file: {exc}") from None
+    return design_from_dict(data)
+
+
+def load_design(path: str | FsPath) -> Design:
+    """Read a design file from disk."""
+    p = FsPath(path)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise DesignError("design file", str(p), "does not exist") from None
+    except OSError as exc:
+        raise DesignError("design file", str(p), f"cannot be read ({exc.strerror})") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise DesignError("design file", str(p), "is not a UTF-8 text file (expected a TOML design)") from None
+    return loads_design(text, source=str(p))

@@ -1,0 +1,190 @@
+"""Frozen dataclasses describing one channel design, every length in metres.
+
+These carry no parsing and no meshing: ``chanmesh.design.load`` builds them from a design
+file, and ``chanmesh.design.checks`` decides whether they can be built. Variants are made with
+``dataclasses.replace``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass, field
+from typing import Any, ClassVar, Union
+
+
+@dataclass(frozen=True)
+class Section:
+    """The channel cross-section.
+
+    ``height_inner`` is the height at the side wall nearer the centre of curvature of the
+    first bend, ``height_outer`` at the farther one; both equal ``height`` for a rectangle.
+    The bottom is flat; the top is straight between the two side walls.
+    """
+
+    shape: str  # "rectangle" | "trapezoid"
+    width: float
+    height_inner: float
+    height_outer: float
+
+    @property
+    def height(self) -> float:
+        """Mean height; the height at the centreline (mid-width)."""
+        return 0.5 * (self.height_inner + self.height_outer)
+
+    @property
+    def max_height(self) -> float:
+        return max(self.height_inner, self.height_outer)
+
+    @property
+    def min_height(self) -> float:
+        return min(self.height_inner, self.height_outer)
+
+
+@dataclass(frozen=True)
+class _Leads:
+    inlet_length: float = 0.0
+    outlet_length: float = 0.0
+
+
+@dataclass(frozen=True)
+class ArcPath(_Leads):
+    """A circular arc of centreline ``radius`` through ``angle`` degrees, counter-clockwise."""
+
+    kind: ClassVar[str] = "arc"
+    radius: float = 0.0
+    angle: float = 0.0  # degrees
+
+
+@dataclass(frozen=True)
+class SpiralPath(_Leads):
+    """An Archimedean spiral r = inner_radius + pitch * theta / (2 pi), outward, counter-clockwise."""
+
+    kind: ClassVar[str] = "spiral"
+    inner_radius: float = 0.0
+    pitch: float = 0.0
+    turns: float = 0.0
+
+
+@dataclass(frozen=True)
+class SerpentinePath(_Leads):
+    """Straight runs joined by U-turns of centreline ``radius`` that alternate in direction.
+
+    One period is: straight, U-turn to the left, straight, U-turn to the right; a final
+    straight run closes the path, so the outlet points the same way as the inlet.
+    """
+
+    kind: ClassVar[str] = "serpentine"
+    radius: float = 0.0
+    straight: float = 0.0
+    periods: int = 0
+
+
+@dataclass(frozen=True)
+class ChambersPath(_Leads):
+    """A straight channel with ``count`` rectangular expansion chambers.
+
+    Along x: throat, chamber, throat, ..., chamber, throat (``count + 1`` throats). A chamber
+    spans ``chamber_width`` across, centred on the channel or, with ``one_sided``, extending
+    from the channel's right-hand wall to the left only.
+    """
+
+    kind: ClassVar[str] = "chambers"
+    count: int = 0
+    chamber_length: float = 0.0
+    chamber_width: float = 0.0
+    throat_length: float = 0.0
+    one_sided: bool = False
+
+
+Path = Union[ArcPath, SpiralPath, SerpentinePath, ChambersPath]
+PATH_KINDS: dict[str, type] = {p.kind: p for p in (ArcPath, SpiralPath, SerpentinePath, ChambersPath)}
+
+
+@dataclass(frozen=True)
+class Outlets:
+    """Split of the outlet face across the width, from the right-hand wall (looking downstream)."""
+
+    split: tuple[float, ...] = ()
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        if len(self.split) <= 1:
+            return ("outlet",)
+        return tuple(f"outlet_{i + 1}" for i in range(len(self.split)))
+
+
+@dataclass(frozen=True)
+class MeshSpec:
+    """How to mesh: mesher, resolution, grading and limits."""
+
+    cells: str = "tet"  # "tet" | "hex"
+    cells_across: int = 12
+    wall_ratio: float = 1.2
+    first_cell: float | None = None  # metres; overrides wall_ratio when given
+    cells_high: int | None = None
+    cells_along: int | None = None
+    along_aspect: float = 2.0
+    max_cells: int = 5_000_000
+    sections: tuple[Any, ...] = ()
+    threads: int = 2
+
+
+@dataclass(frozen=True)
+class FlowSpec:
+    """Operating point for the design numbers; every field optional."""
+
+    rate: float | None = None  # m^3/s
+    velocity: float | None = None  # m/s
+    fluid: str = "water"
+    temperature: float = 298.15  # K
+    density: float | None = None  # kg/m^3
+    viscosity: float | None = None  # Pa s
+    particles: tuple[float, ...] = ()  # diameters, m
+    lift_coefficient: float = 0.5
+    dean_low: float = 1.0
+    dean_high: float = 30.0
+
+
+@dataclass(frozen=True)
+class Design:
+    """One channel design. ``unit`` records the unit the file was written in (for display)."""
+
+    name: str
+    section: Section
+    path: Path
+    outlets: Outlets = field(default_factory=Outlets)
+    mesh: MeshSpec = field(default_factory=MeshSpec)
+    flow: FlowSpec = field(default_factory=FlowSpec)
+    unit: str = "um"
+
+    @property
+    def scale(self) -> float:
+        """Metres per design-file unit."""
+        from chanmesh.units import LENGTH_UNITS
+
+        return LENGTH_UNITS[self.unit]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The resolved design in SI, as plain data (for manifests and hashing)."""
+        out = {
+            "name": self.name,
+            "unit": self.unit,
+            "section": dataclasses.asdict(self.section),
+            "path": {"kind": self.path.kind, **dataclasses.asdict(self.path)},
+            "outlets": {"split": list(self.outlets.split)},
+            "mesh": {**dataclasses.asdict(self.mesh), "sections": list(self.mesh.sections)},
+            "flow": {**dataclasses.asdict(self.flow), "particles": list(self.flow.particles)},
+        }
+        return _finite(out)
+
+
+def _finite(obj: Any) -> Any:
+    """Replace non-finite floats (never expected) so that JSON stays standard."""
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_finite(v) for v in obj]
+    if isinstance(obj, float) and not math.isfinite(obj):
+        return None
+    return obj

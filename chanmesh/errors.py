@@ -1,0 +1,52 @@
+"""The exceptions chanmesh raises for user mistakes.
+
+Library code raises these; only the command line turns them into a one-line message and a
+non-zero exit code. Anything else escaping is a bug in chanmesh and keeps its traceback.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+
+class ChanmeshError(Exception):
+    """Base class of every error caused by input rather than by a bug."""
+
+
+class DesignError(ChanmeshError, ValueError):
+    """A design value that is missing, of the wrong type, or outside its allowed range.
+
+    The message always names the design-file key, the value found and what is allowed, e.g.
+    ``path.radius = 80 um: must be greater than half the section width (100 um) ...``.
+    """
+
+    def __init__(self, key: str, value: Any, allowed: str) -> None:
+        self.key = key
+        self.value = value
+        self.allowed = allowed
+        shown = "(missing)" if value is _MISSING else f"= {_show(value)}"
+        super().__init__(f"{key} {shown}: {allowed}")
+
+
+class MeshFileError(ChanmeshError):
+    """A mesh or result file that cannot be read or does not fit what was asked of it."""
+
+
+class OutputError(ChanmeshError):
+    """An output location that cannot be written (permissions, disk full, bad name)."""
+
+
+class _Missing:
+    def __repr__(self) -> str:
+        return "(missing)"
+
+
+_MISSING = _Missing()
+MISSING: Any = _MISSING
+"""Sentinel for ``DesignError(key, MISSING, ...)`` when a required key is absent."""
+
+
+def _show(value: Any) -> str:
+    if isinstance(value, str):
+        return repr(value)
+    return str(value)

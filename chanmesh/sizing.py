@@ -1,0 +1,70 @@
+"""Wall grading shared by both meshers: a symmetric geometric progression toward the walls.
+
+With ``n`` cells over a length ``L`` and growth ratio ``g`` between neighbouring cells, the
+cells grow from each wall toward the middle: h1, h1 g, h1 g^2, ... A cell at distance d from
+the nearest wall then has size h(d) = h1 + (g - 1) d, up to the middle (core) size. The
+tetrahedral mesher uses exactly that h(d) as its size field, so both meshers grade alike.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from scipy.optimize import brentq
+
+
+def _half_counts(n: int) -> tuple[int, bool]:
+    """Cells from one wall to the middle, and whether a middle cell is shared (odd n)."""
+    return n // 2, n % 2 == 1
+
+
+def first_cell(length: float, n: int, ratio: float) -> float:
+    """Wall-adjacent cell size of a symmetric progression of ``n`` cells over ``length``."""
+    if n < 1:
+        raise ValueError(f"n = {n}, but a progression needs at least one cell")
+    if ratio == 1.0 or n == 1:
+        return length / n
+    half, odd = _half_counts(n)
+    # sum of both halves: 2 h1 (g^half - 1)/(g - 1), plus the middle cell h1 g^half when n is odd
+    total = 2.0 * (ratio**half - 1.0) / (ratio - 1.0) + (ratio**half if odd else 0.0)
+    return length / total
+
+
+def ratio_for_first_cell(length: float, n: int, first: float) -> float:
+    """Growth ratio that makes the wall-adjacent cell ``first`` long (inverse of ``first_cell``)."""
+    uniform = length / n
+    if first > uniform * (1 + 1e-12):
+        raise ValueError(f"first cell {first:g} is longer than the uniform cell {uniform:g}")
+    if abs(first - uniform) <= 1e-12 * uniform or n <= 2:
+        return 1.0
+    return float(brentq(lambda g: first_cell(length, n, g) - first, 1.0 + 1e-12, 50.0, xtol=1e-14, rtol=1e-14))
+
+
+def graded_nodes(length: float, n: int, ratio: float) -> np.ndarray:
+    """Node positions in [0, length] of a symmetric progression: shape (n + 1,)."""
+    h1 = first_cell(length, n, ratio)
+    half, odd = _half_counts(n)
+    sizes = h1 * ratio ** np.arange(half)
+    cells = np.concatenate([sizes, [h1 * ratio**half] if odd else [], sizes[::-1]])
+    nodes = np.concatenate([[0.0], np.cumsum(cells)])
+    nodes *= length / nodes[-1]  # remove round-off so the last node is exactly at length
+    nodes[-1] = length
+    return nodes
+
+
+def core_size(length: float, n: int, ratio: float) -> float:
+    """Largest (middle) cell of the progression."""
+    h1 = first_cell(length, n, ratio)
+    half, odd = _half_counts(n)
+    return h1 * ratio ** (half if odd else max(half - 1, 0))
+
+
+def size_at_distance(d: np.ndarray, h1: float, ratio: float, h_core: float) -> np.ndarray:
+    """Target cell size at wall distance ``d``: min(h1 + (g - 1) d, h_core)."""
+    return np.minimum(h1 + (ratio - 1.0) * np.maximum(d, 0.0), h_core)
+
+
+def cells_for(length: float, size: float) -> int:
+    """Cells of about ``size`` that fit ``length`` (at least one)."""
+    return max(1, int(math.ceil(length / size - 1e-9)))
