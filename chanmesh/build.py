@@ -1,0 +1,86 @@
+"""The build: design in, checked and labelled mesh files plus a manifest out.
+
+    design -> estimate (refuse above max_cells) -> mesh -> check tagging -> write formats
+           -> manifest -> rename everything into place (manifest last)
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable
+
+from chanmesh.design.model import Design
+from chanmesh.errors import DesignError
+from chanmesh.manifest import MANIFEST, canonical_json, make_manifest
+from chanmesh.meshing.model import ChannelMesh
+from chanmesh.meshing.registry import mesher_for
+from chanmesh.meshing.verify import check_boundary_tagging
+from chanmesh.progress import StageClock
+from chanmesh.safeio import StagedOutput
+from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
+
+ManifestHook = Callable[[Design, ChannelMesh], dict[str, Any]]
+MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = []
+"""Extra manifest sections (name, function): design numbers, mesh quality, ... Each hook
+returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
+recorded as {"skipped": message} instead of failing the build."""
+
+
+@dataclass(frozen=True)
+class BuildResult:
+    folder: Path
+    files: list[Path]
+    manifest: dict[str, Any]
+    mesh: ChannelMesh
+
+
+def check_estimate(design: Design, scale: float = 1.0) -> int:
+    """Refuse a design whose estimated cell count exceeds ``mesh.max_cells`` (before meshing)."""
+    estimate = mesher_for(design).estimate(design, scale=scale)
+    if estimate > design.mesh.max_cells:
+        raise DesignError(
+            "mesh.max_cells",
+            design.mesh.max_cells,
+            f"the {design.mesh.cells} mesh is estimated at {estimate:,} cells; raise max_cells "
+            "or coarsen the mesh (fewer cells_across, a larger first_cell)",
+        )
+    return estimate
+
+
+def build(
+    design: Design,
+    out: Path,
+    formats: tuple[str, ...] = DEFAULT_FORMATS,
+    options: WriteOptions = WriteOptions(),
+    scale: float = 1.0,
+    clock: StageClock | None = None,
+) -> BuildResult:
+    """Build ``design`` into folder ``out``; returns the files and the manifest."""
+    clock = clock or StageClock(quiet=True)
+    chosen = [format_named(f) for f in dict.fromkeys(formats)]
+    estimate = check_estimate(design, scale)
+    request = {"formats": [f.name for f in chosen], "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    with StagedOutput(Path(out)) as staged:
+        mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
+        counts = check_boundary_tagging(mesh)
+        mesh.info["estimated_cells"] = estimate
+        mesh.info.update(counts)
+        clock("writing")
+        files: list[Path] = []
+        timings: dict[str, float] = {}
+        for fmt in chosen:
+            files += fmt.write(mesh, staged.stage, design.name, options)
+        extra = {}
+        for name, hook in MANIFEST_HOOKS:
+            try:
+                extra[name] = hook(design, mesh)
+            except DesignError as exc:
+                extra[name] = {"skipped": str(exc)}
+        timings = dict(clock.marks)
+        manifest = make_manifest(design, mesh, files, request, timings, extra)
+        (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")
+        final = staged.commit(MANIFEST)
+    clock("done")
+    return BuildResult(Path(out), final, manifest, mesh)

@@ -1,0 +1,48 @@
+"""``chanmesh build DESIGN``: mesh a design and write the chosen formats plus a manifest."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from chanmesh.build import build
+from chanmesh.design import load_design
+from chanmesh.progress import StageClock
+from chanmesh.writers import DEFAULT_FORMATS, FORMATS, WriteOptions
+
+NAME = "build"
+HELP = "mesh a design file and write mesh files and manifest.json"
+ORDER = 10
+
+
+def formats_arg(text: str) -> tuple[str, ...]:
+    return tuple(f.strip() for f in text.split(",") if f.strip())
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("design", type=Path, help="design file (TOML)")
+    p.add_argument("--out", type=Path, default=None, help="output folder (default: out/<name>)")
+    p.add_argument(
+        "--format",
+        type=formats_arg,
+        default=DEFAULT_FORMATS,
+        help=f"comma-separated formats (default {','.join(DEFAULT_FORMATS)}; any of {','.join(FORMATS)})",
+    )
+    p.add_argument("--msh-version", choices=("4.1", "2.2"), default="4.1", help="MSH file version (default 4.1)")
+    p.add_argument("--binary", action="store_true", help="binary MSH instead of ASCII")
+    p.add_argument("--quiet", action="store_true", help="no progress lines")
+
+
+def run(args: argparse.Namespace) -> int:
+    design = load_design(args.design)
+    out = args.out or Path("out") / design.name
+    clock = StageClock(quiet=args.quiet)
+    result = build(design, out, formats=args.format, options=WriteOptions(args.msh_version, args.binary), clock=clock)
+    if not args.quiet:
+        m = result.manifest
+        counts = ", ".join(f"{n:,} {t}" for t, n in m["cells"].items())
+        print(f"{design.name}: {counts} -> {result.folder}")
+        for g in m["groups"]:
+            err = f"  (analytic {g['relative_error']:+.2e})" if "relative_error" in g else ""
+            print(f"  {g['name']:<10} dim {g['dim']}  tag {g['tag']:<3} {g['entities']:>9,} entities  {g['measured']:.6e} {g['unit']}{err}")
+    return 0

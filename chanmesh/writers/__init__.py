@@ -1,0 +1,62 @@
+"""Output formats by name. A writer is a function ``write(mesh, folder, stem, options) ->
+list[Path]`` that writes ``folder/stem.<suffix>`` (and any companion files) and returns the
+paths. The build writes into a staging folder and renames the results into place, so writers
+need not be atomic themselves. Add a format by adding a module and an entry here.
+"""
+
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Callable
+
+from chanmesh.meshing.model import ChannelMesh
+
+
+@dataclass(frozen=True)
+class WriteOptions:
+    msh_version: str = "4.1"  # "4.1" | "2.2"
+    binary: bool = False
+
+
+@dataclass(frozen=True)
+class Format:
+    name: str
+    suffix: str
+    module: str
+    function: str
+    summary: str
+    keeps_names: bool
+
+    def write(self, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
+        fn: Callable[..., list[Path]] = getattr(importlib.import_module(self.module), self.function)
+        return fn(mesh, folder, stem, options)
+
+
+_G = "chanmesh.writers.gmsh_formats"
+_M = "chanmesh.writers.meshio_formats"
+
+FORMATS: dict[str, Format] = {
+    f.name: f
+    for f in (
+        Format("msh", ".msh", _G, "write_msh", "gmsh MSH 4.1 (or 2.2 with --msh-version), named physical groups", True),
+        Format("xdmf", ".xdmf", "chanmesh.writers.xdmf", "write_xdmf", "XDMF + HDF5: cells and facets with integer tags, name map in JSON", False),
+        Format("vtu", ".vtu", "chanmesh.writers.vtu", "write_vtu", "VTK unstructured grid with a 'group' cell array, for any VTK viewer", False),
+        Format("su2", ".su2", _G, "write_su2", "SU2 native mesh (gmsh's writer), markers named after the groups", True),
+        Format("med", ".med", _G, "write_med", "MED (gmsh's writer), groups named", True),
+        Format("cgns", ".cgns", _G, "write_cgns", "CGNS (gmsh's writer), zones and boundary conditions named", True),
+        Format("inp", ".inp", _M, "write_abaqus", "Abaqus input (meshio), element sets per group", True),
+        Format("mesh", ".mesh", _M, "write_medit", "Medit (meshio), references = group tags", False),
+    )
+}
+
+DEFAULT_FORMATS = ("msh", "xdmf", "vtu")
+
+
+def format_named(name: str) -> Format:
+    from chanmesh.errors import DesignError
+
+    if name not in FORMATS:
+        raise DesignError("--format", name, f"must be one of {', '.join(FORMATS)}")
+    return FORMATS[name]
