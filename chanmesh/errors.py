@@ -28,6 +28,14 @@ class DesignError(ChanmeshError, ValueError):
         super().__init__(f"{key} {shown}: {allowed}")
 
 
+class StudyError(DesignError):
+    """A convergence-study table (results CSV, family.json) that cannot be used as given.
+
+    Same message shape as ``DesignError``: where (file, row, column), the value found, and what
+    is allowed, e.g. ``RESULTS.csv row 3, column 'dp' = 'abc': must be a number``.
+    """
+
+
 class MeshFileError(ChanmeshError):
     """A mesh or result file that cannot be read or does not fit what was asked of it."""
 

@@ -1,0 +1,1 @@
+"""Post-processing: convergence reports (``gci``, ``gci_table``, ``gci_io``)."""
