@@ -91,7 +91,7 @@ def stations_of(design: Design) -> tuple[Station, ...]:
             s_local = float(seg.arclength_at(np.array(theta)))
             kappa = float(seg.curvature(np.array([s_local]))[0])
             r = seg.r0 + seg.c * theta
-            out.append(Station(f"turn {t:g}", breaks[i] + s_local, 1.0 / kappa, r, turn=t))
+            out.append(Station(f"turn {t:g}", float(breaks[i]) + s_local, 1.0 / kappa, r, turn=t))
         return tuple(out)
     if isinstance(path, (ArcPath, SerpentinePath)):
         k = 0
@@ -99,7 +99,7 @@ def stations_of(design: Design) -> tuple[Station, ...]:
             if kind != "bend":
                 continue
             k += 1
-            mid = 0.5 * (breaks[i] + breaks[i + 1])
+            mid = float(0.5 * (breaks[i] + breaks[i + 1]))
             kappa = float(line.curvature(np.array([mid]))[0])
             if isinstance(path, ArcPath):
                 out.append(Station("bend", mid, 1.0 / abs(kappa), path.radius))

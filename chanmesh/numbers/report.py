@@ -214,7 +214,7 @@ def _definitions(design: Design) -> dict[str, str]:
     if isinstance(design.path, SpiralPath):
         d["spiral_stations"] = (
             "one station at the start, each whole turn and the end; radius_m is r = r0 + c theta "
-            "from the centre, curvature_radius_m is 1 / kappa (slightly larger than r)"
+            "from the centre, curvature_radius_m is 1 / kappa (slightly smaller than r)"
         )
     if isinstance(design.path, ChambersPath):
         d["chambers"] = "straight: no Dean number; expansion ratio = chamber_width / width; Re in throat and chamber"
