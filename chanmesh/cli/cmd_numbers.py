@@ -73,10 +73,9 @@ def overrides(args: argparse.Namespace) -> dict[str, Any]:
     if args.particles is not None:
         parts = [p for p in args.particles.split(",") if p.strip()]
         out["particles"] = tuple(parse_length(f"--particles[{i}]", p) for i, p in enumerate(parts))
-    for opt, field in (("lift_coefficient", "lift_coefficient"), ("focus_ratio", "focus_ratio"),
-                       ("dean_low", "dean_low"), ("dean_high", "dean_high"), ("biological", "biological")):
-        if getattr(args, opt) is not None:
-            out[field] = getattr(args, opt)
+    for field in ("lift_coefficient", "focus_ratio", "dean_low", "dean_high", "biological"):
+        if getattr(args, field) is not None:  # option dest names equal the FlowSpec fields
+            out[field] = getattr(args, field)
     return out
 
 
