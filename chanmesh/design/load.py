@@ -181,6 +181,8 @@ FLOW_KEYS: dict[str, Key] = {
     "lift_coefficient": Key(read_float, default=0.5),
     "dean_low": Key(read_float, default=1.0),
     "dean_high": Key(read_float, default=30.0),
+    "focus_ratio": Key(read_float),
+    "biological": Key(read_bool),
 }
 
 TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow")

@@ -144,6 +144,8 @@ class FlowSpec:
     lift_coefficient: float = 0.5
     dean_low: float = 1.0
     dean_high: float = 30.0
+    focus_ratio: float | None = None  # lift / Dean drag also needed to call a particle focusing
+    biological: bool | None = None  # None: guessed from the fluid name
 
 
 @dataclass(frozen=True)

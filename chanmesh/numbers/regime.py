@@ -1,0 +1,130 @@
+"""Dean numbers along the path and the secondary-flow regime at each station.
+
+De = Re sqrt(D_h / (2 R)) with R the local radius of curvature of the centreline (the
+definition printed with every result; part of the literature uses sqrt(D_h / R), a factor
+sqrt(2) larger). Stations: the arc's bend; a spiral at its start, every whole turn and its
+end; each U-turn of a serpentine. The chambers family is straight and has no Dean number.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from chanmesh.design.model import ArcPath, Design, SerpentinePath, SpiralPath
+from chanmesh.geometry.centerline import Spiral, centerline_of
+
+DEAN_DEFINITION = "De = Re * sqrt(D_h / (2 R)), R the local radius of curvature of the centreline"
+DEAN_ALTERNATIVE = "some authors use De = Re * sqrt(D_h / R), larger by a factor sqrt(2) = 1.414"
+DEAN_VELOCITY_SOURCE = (
+    "U_Dean = 1.8e-4 * De^1.63 m/s, empirical correlation of Ookawara et al. (2004) as used in the "
+    "inertial-microfluidics literature"
+)
+REGIME_SOURCE = (
+    "regime bands: below dean_low, between dean_low and dean_high (stable counter-rotating Dean "
+    "vortices seen in microchannels), above dean_high (secondary vortices, instability): common "
+    "practice, no source; set flow.dean_low / flow.dean_high to override"
+)
+
+
+def dean_number(reynolds: float, hydraulic_diameter: float, radius: float) -> float:
+    """De = Re sqrt(D_h / (2 R)); R in metres, same unit as D_h."""
+    return reynolds * math.sqrt(hydraulic_diameter / (2.0 * radius))
+
+
+def dean_velocity(dean: float) -> float:
+    """Average secondary-flow velocity, m/s: 1.8e-4 De^1.63 (Ookawara et al. 2004, empirical)."""
+    return 1.8e-4 * dean**1.63
+
+
+def regime(dean: float, low: float, high: float) -> str:
+    """'below', 'inside' or 'above' the band [low, high] of stable counter-rotating vortices."""
+    if dean < low:
+        return "below"
+    if dean <= high:
+        return "inside"
+    return "above"
+
+
+REGIME_TEXT = {
+    "below": "below the stable-vortex range: weak secondary flow",
+    "inside": "inside the stable counter-rotating vortex range",
+    "above": "above it: secondary vortices and instability expected",
+}
+
+
+@dataclass(frozen=True)
+class Station:
+    """A place on the centreline where the curvature is reported.
+
+    ``s`` arc length from the inlet (m), ``curvature_radius`` 1/kappa (m), ``radius`` the
+    distance from the spiral centre (m; the bend radius for arcs and U-turns), ``turn`` the
+    spiral turn number (None elsewhere), ``side`` 'left' / 'right' for U-turns.
+    """
+
+    label: str
+    s: float
+    curvature_radius: float
+    radius: float
+    turn: float | None = None
+    side: str | None = None
+
+
+def stations_of(design: Design) -> tuple[Station, ...]:
+    """The Dean stations of a design's path; empty for the chambers family."""
+    line = centerline_of(design)
+    breaks = line.breaks
+    path = design.path
+    out: list[Station] = []
+    if isinstance(path, SpiralPath):
+        i = line.kinds.index("spiral")
+        seg = line.segments[i]
+        if not isinstance(seg, Spiral):  # pragma: no cover - centerline_of always builds one
+            raise TypeError(f"spiral segment expected, got {seg!r}")
+        turns = [float(k) for k in range(int(math.floor(path.turns + 1e-12)) + 1)]
+        if path.turns - turns[-1] > 1e-9:
+            turns.append(path.turns)
+        for t in turns:
+            theta = 2.0 * math.pi * t
+            s_local = float(seg.arclength_at(np.array(theta)))
+            kappa = float(seg.curvature(np.array([s_local]))[0])
+            r = seg.r0 + seg.c * theta
+            out.append(Station(f"turn {t:g}", float(breaks[i]) + s_local, 1.0 / kappa, r, turn=t))
+        return tuple(out)
+    if isinstance(path, (ArcPath, SerpentinePath)):
+        k = 0
+        for i, kind in enumerate(line.kinds):
+            if kind != "bend":
+                continue
+            k += 1
+            mid = float(0.5 * (breaks[i] + breaks[i + 1]))
+            kappa = float(line.curvature(np.array([mid]))[0])
+            if isinstance(path, ArcPath):
+                out.append(Station("bend", mid, 1.0 / abs(kappa), path.radius))
+            else:
+                side = "left" if kappa > 0 else "right"
+                out.append(Station(f"U-turn {k}", mid, 1.0 / abs(kappa), path.radius, side=side))
+        return tuple(out)
+    return ()
+
+
+def station_numbers(station: Station, reynolds: float, hydraulic_diameter: float, low: float, high: float) -> dict[str, object]:
+    """JSON-able numbers of one station (SI)."""
+    de = dean_number(reynolds, hydraulic_diameter, station.curvature_radius)
+    band = regime(de, low, high)
+    out: dict[str, object] = {
+        "label": station.label,
+        "s_m": station.s,
+        "radius_m": station.radius,
+        "curvature_radius_m": station.curvature_radius,
+        "dean": de,
+        "dean_velocity_m_s": dean_velocity(de),
+        "regime": band,
+    }
+    if station.turn is not None:
+        out["turn"] = station.turn
+    if station.side is not None:
+        out["side"] = station.side
+    return out

@@ -1,0 +1,62 @@
+"""Laminar rectangular-duct friction, peak velocity and pressure drop (chanmesh.numbers.duct)."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from chanmesh.numbers import duct
+
+# Shah & London (1978), Laminar Flow Forced Convection in Ducts, table of f Re for rectangular ducts
+SHAH_LONDON_TABLE = {1.0: 14.227, 0.5: 15.548, 0.25: 18.233, 0.125: 20.585}
+
+
+@pytest.mark.parametrize("alpha, fre", sorted(SHAH_LONDON_TABLE.items()))
+def test_series_matches_shah_london_table(alpha: float, fre: float) -> None:
+    assert duct.fanning_fre_series(alpha) == pytest.approx(fre, abs=6e-4)
+
+
+@pytest.mark.parametrize("alpha", [0.05, 0.125, 0.2, 0.25, 0.4, 0.5, 0.75, 1.0])
+def test_polynomial_and_series_agree(alpha: float) -> None:
+    # Shah & London give the polynomial as accurate to about 0.05 % against the series
+    assert duct.fanning_fre_polynomial(alpha) == pytest.approx(duct.fanning_fre_series(alpha), rel=1e-3)
+
+
+def test_parallel_plate_limits() -> None:
+    # analytic plane Poiseuille flow: f Re = 24, u_max / u_mean = 3/2
+    assert duct.fanning_fre_series(1e-4) == pytest.approx(24.0, rel=1e-3)
+    assert duct.max_over_mean(1e-4) == pytest.approx(1.5, rel=1e-3)
+
+
+def test_square_duct_peak_velocity() -> None:
+    # u_max / u_mean = 2.0962 for the square duct (Shah & London 1978, from memory)
+    assert duct.max_over_mean(1.0) == pytest.approx(2.0962, abs=2e-4)
+
+
+def test_pressure_drop_is_hagen_poiseuille_for_the_pipe_value() -> None:
+    # circular pipe: Fanning f Re = 16 and dp = 32 mu U L / D^2 (Hagen-Poiseuille)
+    mu, u, length, d = 1e-3, 0.2, 0.05, 1e-4
+    assert duct.pressure_drop(16.0, mu, u, length, d) == pytest.approx(32 * mu * u * length / d**2, rel=1e-12)
+
+
+def test_pressure_drop_of_a_flat_channel_against_the_approximate_formula() -> None:
+    # Bruus (2008), Theoretical Microfluidics, flat rectangular channel (from memory):
+    # R_hyd ~ 12 mu L / (1 - 0.63 h / w) / (h^3 w), accurate to ~0.2 % for h / w <= 0.1
+    w, h, mu, length, q = 1e-3, 1e-4, 1e-3, 0.02, 1e-9
+    d_h = 2 * w * h / (w + h)
+    dp = duct.pressure_drop(duct.fanning_fre_series(h / w), mu, q / (w * h), length, d_h)
+    ref = 12 * mu * length / ((1 - 0.63 * h / w) * h**3 * w) * q
+    assert dp == pytest.approx(ref, rel=3e-3)
+
+
+def test_entrance_length_correlation_by_hand() -> None:
+    # Chen (1973), L_e / D_h = 0.60 / (1 + 0.035 Re) + 0.056 Re (from memory): Re = 100 -> 0.1333 + 5.6
+    assert duct.entrance_length(100.0, 1e-4) == pytest.approx(1e-4 * (0.6 / 4.5 + 5.6), rel=1e-12)
+    assert duct.entrance_length(0.0, 1e-4) == pytest.approx(0.6e-4)
+
+
+def test_bad_aspect_ratio_is_a_value_error() -> None:
+    with pytest.raises(ValueError, match="aspect ratio"):
+        duct.fanning_fre_series(1.5)
+    assert math.isclose(duct.aspect_ratio(100e-6, 500e-6), 0.2)
