@@ -22,7 +22,15 @@ from chanmesh.safeio import StagedOutput
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
 
 ManifestHook = Callable[[Design, ChannelMesh], dict[str, Any]]
-MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = []
+
+
+def _numbers(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
+    from chanmesh.numbers import design_numbers
+
+    return design_numbers(design)
+
+
+MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("numbers", _numbers)]
 """Extra manifest sections (name, function): design numbers, mesh quality, ... Each hook
 returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
 recorded as {"skipped": message} instead of failing the build."""

@@ -54,7 +54,11 @@ MISSING: Any = _MISSING
 """Sentinel for ``DesignError(key, MISSING, ...)`` when a required key is absent."""
 
 
+class Shown(str):
+    """A value already formatted for the message (e.g. ``'50 um'``): printed without quotes."""
+
+
 def _show(value: Any) -> str:
-    if isinstance(value, str):
+    if isinstance(value, str) and not isinstance(value, Shown):
         return repr(value)
     return str(value)

@@ -22,6 +22,8 @@ STAGE_PREFIX = ".chanmesh-stage-"
 
 def ensure_folder(folder: Path) -> Path:
     """Create ``folder`` (and parents) and check that it can be written."""
+    if folder.exists() and not folder.is_dir():
+        raise OutputError(f"output folder {str(folder)!r} is a file, not a folder")
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

@@ -9,7 +9,7 @@ import math
 import re
 
 from chanmesh.design.model import ArcPath, ChambersPath, Design, SerpentinePath, SpiralPath
-from chanmesh.errors import DesignError
+from chanmesh.errors import DesignError, Shown
 
 MIN_WALL = 0.05
 """Smallest solid wall between neighbouring channel runs, as a fraction of the width
@@ -21,7 +21,7 @@ MESHERS = ("tet", "hex")
 
 def _fmt(design: Design, metres: float) -> str:
     value = metres / design.scale
-    return f"{value:.6g} {design.unit}"
+    return Shown(f"{value:.6g} {design.unit}")
 
 
 def _positive(design: Design, key: str, metres: float) -> None:
@@ -66,7 +66,7 @@ def _check_path(design: Design) -> None:
     if isinstance(path, ArcPath):
         _bend_radius(design, "path.radius", path.radius)
         if not 0 < path.angle < 360:
-            raise DesignError("path.angle", f"{path.angle:g} deg", "must lie in (0, 360) degrees: a full ring has no inlet or outlet")
+            raise DesignError("path.angle", Shown(f"{path.angle:g} deg"), "must lie in (0, 360) degrees: a full ring has no inlet or outlet")
     elif isinstance(path, SpiralPath):
         _bend_radius(design, "path.inner_radius", path.inner_radius)
         _positive(design, "path.pitch", path.pitch)

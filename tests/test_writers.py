@@ -1,0 +1,111 @@
+"""Every writer round-trips through a general reader (meshio, or gmsh for its own formats)
+with the group names and tags intact (the habit of meshio's own tests/test_*.py)."""
+
+from __future__ import annotations
+
+import json
+
+import gmsh
+import meshio
+import numpy as np
+import pytest
+
+from chanmesh.build import build
+from chanmesh.writers import FORMATS, WriteOptions
+from tests.conftest import small_design
+
+NAMES = ["inlet", "outlet_1", "outlet_2", "wall", "fluid"]
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    out = tmp_path_factory.mktemp("fmt")
+    d = small_design("arc", outlets={"split": [0.5, 0.5]})
+    return build(d, out, formats=tuple(FORMATS))
+
+
+def _counts_by_tag(mesh: meshio.Mesh, key: str) -> dict[int, int]:
+    out: dict[int, int] = {}
+    for tags in mesh.cell_data[key]:
+        for t, n in zip(*np.unique(tags, return_counts=True)):
+            out[int(t)] = out.get(int(t), 0) + int(n)
+    return out
+
+
+def _expected(result) -> dict[int, int]:
+    return {g["tag"]: g["entities"] for g in result.manifest["groups"]}
+
+
+@pytest.mark.parametrize("version", ["4.1", "2.2"])
+def test_msh_keeps_names_and_tags(tmp_path, version):
+    d = small_design("arc", outlets={"split": [0.5, 0.5]})
+    r = build(d, tmp_path, formats=("msh",), options=WriteOptions(msh_version=version))
+    m = meshio.read(tmp_path / "t.msh")
+    assert {k: int(v[0]) for k, v in m.field_data.items()} == {g["name"]: g["tag"] for g in r.manifest["groups"]}
+    assert _counts_by_tag(m, "gmsh:physical") == _expected(r)
+    assert np.allclose(m.points.max(axis=0)[2], 25e-6)  # written in metres
+
+
+def test_xdmf_pair_and_name_map(built):
+    folder = built.folder
+    cells = meshio.read(folder / "t.xdmf")
+    facets = meshio.read(folder / "t_facets.xdmf")
+    names = json.loads((folder / "t_groups.json").read_text())
+    assert list(names) == NAMES
+    merged = {**_counts_by_tag(cells, "group"), **_counts_by_tag(facets, "group")}
+    assert merged == _expected(built)
+    assert cells.points.shape == facets.points.shape
+
+
+def test_vtu_carries_groups_and_names(built):
+    m = meshio.read(built.folder / "t.vtu")
+    assert _counts_by_tag(m, "group") == _expected(built)
+    assert {k: int(v[0]) for k, v in m.field_data.items()} == {n: i + 1 for i, n in enumerate(NAMES)}
+
+
+def test_vtu_reads_in_vtk(built):
+    import pyvista as pv
+
+    grid = pv.read(built.folder / "t.vtu")
+    fluid = grid.extract_cells(np.flatnonzero(grid.cell_data["group"] == 5))
+    # VTK's own cell-size filter (through pyvista) against the manifest's measured volume
+    vol = float(fluid.compute_cell_sizes(length=False, area=False)["Volume"].sum())
+    assert vol == pytest.approx(next(g["measured"] for g in built.manifest["groups"] if g["name"] == "fluid"), rel=1e-9)
+
+
+def test_abaqus_element_sets_are_named(built):
+    m = meshio.read(built.folder / "t.inp")
+    assert set(NAMES) <= set(m.cell_sets)
+    sizes = {k: sum(len(a) for a in v) for k, v in m.cell_sets.items() if k in NAMES}
+    assert sizes == {g["name"]: g["entities"] for g in built.manifest["groups"]}
+
+
+def test_medit_references_are_tags(built):
+    m = meshio.read(built.folder / "t.mesh")
+    assert _counts_by_tag(m, "medit:ref") == _expected(built)
+
+
+def test_su2_markers_are_named(built):
+    text = (built.folder / "t.su2").read_text()
+    markers = [line.split("=")[1].strip() for line in text.splitlines() if line.startswith("MARKER_TAG")]
+    assert markers == ["inlet", "outlet_1", "outlet_2", "wall"]
+
+
+@pytest.mark.parametrize("suffix", ["med", "cgns"])
+def test_gmsh_formats_read_back_in_gmsh(built, suffix):
+    # gmsh reads its own MED/CGNS output; meshio 5.3.5 cannot read gmsh's CGNS
+    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    try:
+        gmsh.option.setNumber("General.Terminal", 0)
+        gmsh.open(str(built.folder / f"t.{suffix}"))
+        n_tets = len(gmsh.model.mesh.getElementsByType(4)[0])
+    finally:
+        gmsh.finalize()
+    assert n_tets == next(g["entities"] for g in built.manifest["groups"] if g["name"] == "fluid")
+
+
+def test_manifest_lists_every_file_with_hash(built):
+    listed = {f["name"] for f in built.manifest["files"]}
+    on_disk = {p.name for p in built.folder.iterdir() if p.name != "manifest.json"}
+    assert listed == on_disk
+    assert not [p for p in built.folder.iterdir() if p.name.startswith(".")]  # no staging left
