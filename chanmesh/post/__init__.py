@@ -1,0 +1,1 @@
+"""Post-processing of meshes: quality figures (sections and convergence reports come later)."""
