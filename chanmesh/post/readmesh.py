@@ -7,6 +7,8 @@ Facets or cells with no tag get a group of their own, so the mesh is always comp
 
 from __future__ import annotations
 
+import contextlib
+import io
 from pathlib import Path
 
 import numpy as np
@@ -34,10 +36,13 @@ def read_mesh_file(path: str | Path) -> ChannelMesh:
     p = Path(path)
     if not p.is_file():
         raise MeshFileError(f"mesh file '{p}' does not exist (give the path of a .msh, .xdmf, .vtu, ... file)")
+    said = io.StringIO()
     try:
-        m = meshio.read(str(p))
-    except Exception as exc:  # meshio raises many types for unreadable input
-        raise MeshFileError(f"mesh file '{p}' cannot be read as a mesh: {exc or type(exc).__name__}") from None
+        with contextlib.redirect_stderr(said):
+            m = meshio.read(str(p))
+    except (Exception, SystemExit) as exc:  # meshio raises many types, and exits on some files
+        why = " ".join(said.getvalue().split()) or str(exc) or type(exc).__name__
+        raise MeshFileError(f"mesh file '{p}' cannot be read as a mesh: {why}") from None
     tags = _tag_arrays(m)
     names = {int(v[0]): (name, int(v[1]) if len(v) > 1 else None) for name, v in (m.field_data or {}).items()}
     points = np.asarray(m.points, dtype=float)
