@@ -68,3 +68,31 @@ def size_at_distance(d: np.ndarray, h1: float, ratio: float, h_core: float) -> n
 def cells_for(length: float, size: float) -> int:
     """Cells of about ``size`` that fit ``length`` (at least one)."""
     return max(1, int(math.ceil(length / size - 1e-9)))
+
+
+def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.ndarray:
+    """Node positions in [0, length] growing from both ends by ``ratio`` from ``h1`` up to
+    ``h_max``, uniform in between: shape (n + 1,).
+
+    Used where a wall closes an interval along the flow (the end walls of a chamber): the
+    plain symmetric progression cannot cap its middle cell, whose size tends to
+    length (g - 1) / 2 however many cells are added.
+    """
+    if ratio <= 1.0 or h1 >= h_max:
+        n = cells_for(length, h_max)
+        return np.linspace(0.0, length, n + 1)
+    m = max(1, int(math.ceil(math.log(h_max / h1) / math.log(ratio))))
+    ramp = h1 * ratio ** np.arange(m)
+    middle = length - 2.0 * ramp.sum()
+    if middle < ramp[-1]:
+        # the two ramps meet: the smallest symmetric progression whose wall cell is <= h1
+        n = 2
+        while first_cell(length, n, ratio) > h1 and n < 100_000:
+            n += 1
+        return graded_nodes(length, n, ratio)
+    n_mid = max(1, int(round(middle / h_max)))
+    cells = np.concatenate([ramp, np.full(n_mid, middle / n_mid), ramp[::-1]])
+    nodes = np.concatenate([[0.0], np.cumsum(cells)])
+    nodes *= length / nodes[-1]
+    nodes[-1] = length
+    return nodes

@@ -32,6 +32,7 @@ class Mesher:
 
 MESHERS: dict[str, Mesher] = {
     "tet": Mesher("tet", "chanmesh.meshing.tet", "mesh_tet", "estimate_tet_cells"),
+    "hex": Mesher("hex", "chanmesh.meshing.hex", "mesh_hex", "estimate_hex_cells"),
 }
 
 

@@ -1,1 +1,2 @@
-"""Post-processing: convergence reports (``gci``, ``gci_table``, ``gci_io``)."""
+"""Post-processing: mesh quality (``quality``), convergence reports (``gci``, ``gci_table``,
+``gci_io``), stations and cross-sections."""
