@@ -30,7 +30,13 @@ def _numbers(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
     return design_numbers(design)
 
 
-MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("numbers", _numbers)]
+def _quality(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
+    from chanmesh.post.quality import mesh_quality
+
+    return mesh_quality(mesh).as_dict()
+
+
+MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("quality", _quality), ("numbers", _numbers)]
 """Extra manifest sections (name, function): design numbers, mesh quality, ... Each hook
 returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
 recorded as {"skipped": message} instead of failing the build."""
