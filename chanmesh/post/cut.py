@@ -26,7 +26,8 @@ from chanmesh.post.stations import StationFrame
 
 Z = np.array([0.0, 0.0, 1.0])
 MIN_VALID = 0.98  # fraction of sample points that must fall inside the result's cells
-VORTEX_FLOOR = 0.05  # extrema of psi below this fraction of max |psi| are noise
+VORTEX_FLOOR = 0.10  # extrema of psi below this fraction of max |psi| are noise
+PEAK_PATCH = 0.2  # the centre is fitted where |psi| is within this fraction of the region's extremum
 
 
 @dataclass(frozen=True)
@@ -125,41 +126,55 @@ def stream_function(grid: SampleGrid, a: np.ndarray) -> np.ndarray:
 
 
 def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame) -> list[dict[str, Any]]:
-    """Interior extrema of psi, refined by a parabola through the neighbours in each direction.
+    """One centre per connected region of one sign of psi: the vertex of a quadratic fitted to
+    psi where it is within 20 % of the region's extremum (the extremum itself if that fit is not
+    a peak). Fitting over a patch keeps the kinks of a piecewise-linear solution from moving the
+    centre or showing up as vortices of their own. Regions weaker than ``VORTEX_FLOOR`` of the
+    strongest are left out.
 
-    Looking downstream (u to the right, z up), a maximum of psi turns counter-clockwise, a
-    minimum clockwise (a = d psi / dv, b = -d psi / du).
+    Looking downstream (u to the right, z up), psi > 0 turns counter-clockwise and psi < 0
+    clockwise (a = d psi / dv, b = -d psi / du, so the flow circles a maximum counter-clockwise).
     """
-    from scipy.ndimage import maximum_filter, minimum_filter
+    from scipy.ndimage import label
 
     peak = float(np.max(np.abs(psi))) if psi.size else 0.0
     if peak == 0.0:
         return []
+    o = frame.outline
     out = []
-    core = np.zeros_like(psi, bool)
-    core[1:-1, 1:-1] = True
-    for kind, filt in (("max", maximum_filter), ("min", minimum_filter)):
-        ext = (psi == filt(psi, size=3, mode="nearest")) & core & (np.abs(psi) >= VORTEX_FLOOR * peak)
-        for j, i in zip(*np.nonzero(ext)):
-            di = _parabola(psi[j, i - 1], psi[j, i], psi[j, i + 1])
-            dj = _parabola(psi[j - 1, i], psi[j, i], psi[j + 1, i])
-            du = grid.u[1] - grid.u[0]
-            u = float(grid.u[i] + di * du)
-            eta = float(grid.eta[j] + dj * (grid.eta[1] - grid.eta[0]))
-            o = frame.outline
-            v = float(o.bottom + eta * (float(o.top(u)) - o.bottom))
+    for sign in (1.0, -1.0):
+        regions, count = label(sign * psi > 0)
+        for k in range(1, count + 1):
+            mask = regions == k
+            ext = float(np.max(sign * psi[mask]))
+            if ext < VORTEX_FLOOR * peak:
+                continue
+            u, v = _fit_peak(grid, sign * psi, mask & (sign * psi >= (1.0 - PEAK_PATCH) * ext))
             x = frame.point + u * frame.normal + v * Z
             out.append({
-                "u_m": u, "v_m": v, "point_m": x.tolist(), "psi_m2_s": float(psi[j, i]),
-                "sense": "counter-clockwise" if kind == "max" else "clockwise",
-                "strength": float(abs(psi[j, i]) / peak),
+                "u_m": u, "v_m": v, "point_m": x.tolist(), "psi_m2_s": sign * ext,
+                "sense": "counter-clockwise" if sign > 0 else "clockwise",
+                "strength": ext / peak,
             })
     return sorted(out, key=lambda c: -c["strength"])
 
 
-def _parabola(left: float, mid: float, right: float) -> float:
-    den = left - 2.0 * mid + right
-    return 0.0 if den == 0 else float(np.clip(0.5 * (left - right) / den, -0.5, 0.5))
+def _fit_peak(grid: SampleGrid, f: np.ndarray, patch: np.ndarray) -> tuple[float, float]:
+    """(u, v) of the vertex of a least-squares quadratic through f on ``patch`` (f has its maximum there)."""
+    uu, vv, ff = grid.uu[patch], grid.vv[patch], f[patch]
+    best = int(np.argmax(ff))
+    if len(ff) >= 6:
+        scale = float(grid.u[-1] - grid.u[0]) or 1.0
+        x, y = (uu - uu[best]) / scale, (vv - vv[best]) / scale
+        A = np.column_stack([np.ones_like(x), x, y, x * x, x * y, y * y])
+        c, *_ = np.linalg.lstsq(A, ff, rcond=None)
+        H = np.array([[2 * c[3], c[4]], [c[4], 2 * c[5]]])
+        if np.all(np.linalg.eigvalsh(H) < 0):
+            dx, dy = np.linalg.solve(H, -c[1:3])
+            u, v = uu[best] + dx * scale, vv[best] + dy * scale
+            if uu.min() <= u <= uu.max() and vv.min() <= v <= vv.max():
+                return float(u), float(v)
+    return float(uu[best]), float(vv[best])
 
 
 def cut(result: ResultField, design: Design, frame: StationFrame, nu: int = 100, nv: int | None = None) -> Cut:

@@ -45,21 +45,22 @@ def csv_text(c: Cut) -> str:
 
 
 def section_dataset(c: Cut):  # type: ignore[no-untyped-def]
-    """The sample grid as a pyvista StructuredGrid (nu x nv x 1) with the velocity split."""
+    """The sample grid (nu x nv x 1 structured, stored as an UnstructuredGrid for VTU) with the velocity split."""
     import pyvista as pv
 
     g = c.grid
     nv, nu = g.shape
     pts = g.points.reshape(nv, nu, 3)
     sg = pv.StructuredGrid(pts[..., 0].T[..., None], pts[..., 1].T[..., None], pts[..., 2].T[..., None])
-    order = lambda a: np.asarray(a).reshape(nv, nu, -1).transpose(1, 0, 2).reshape(nu * nv, -1, order="F").squeeze()  # noqa: E731
+    # StructuredGrid numbers points with u fastest, as the (nv, nu) sample arrays in C order
+    order = lambda a: np.asarray(a).reshape(nv * nu, -1).squeeze()  # noqa: E731
     secondary = c.sec_n[..., None] * c.frame.normal + c.sec_z[..., None] * Z
     sg.point_data["streamwise"] = order(c.streamwise)
     sg.point_data["secondary"] = order(secondary)
     sg.point_data["velocity"] = order(c.velocity)
     sg.point_data["secondary_speed"] = order(c.secondary_speed)
     sg.point_data["psi"] = order(c.psi)
-    return sg
+    return sg.cast_to_unstructured_grid()
 
 
 def json_data(c: Cut, design_name: str, field: str, association: str, source: str) -> dict[str, Any]:

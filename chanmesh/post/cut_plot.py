@@ -44,6 +44,18 @@ def _wall_names(c: Cut) -> tuple[str, str]:
     return "outer wall", "inner wall"
 
 
+def _to_walls(c: Cut) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The cell-centred samples with a ring of wall points added (edge values carried to the
+    walls), so the filled contour reaches the outline instead of stopping half a cell short."""
+    g, o = c.grid, c.frame.outline
+    u = np.concatenate([[o.u0], g.u, [o.u1]])
+    eta = np.concatenate([[0.0], g.eta, [1.0]])
+    h = np.asarray(o.top(u)) - o.bottom
+    uu = np.broadcast_to(u, (len(eta), len(u)))
+    vv = o.bottom + eta[:, None] * h[None, :]
+    return uu, vv, np.pad(c.streamwise, 1, mode="edge")
+
+
 def render_png(c: Cut, title: str) -> bytes:
     """PNG bytes of the picture (matplotlib, Agg backend)."""
     import matplotlib
@@ -57,11 +69,16 @@ def render_png(c: Cut, title: str) -> bytes:
     height = (max(o.top0, o.top1) - o.bottom) * um
     fig_w = 10.0
     plot_h = max(2.2, min(7.0, fig_w * 0.78 * height / width))
+    from matplotlib.ticker import MaxNLocator
+    from mpl_toolkits.axes_grid1 import make_axes_locatable
+
     fig, ax = plt.subplots(figsize=(fig_w, plot_h + 1.9), dpi=130)
-    levels = np.linspace(min(0.0, float(c.streamwise.min())), float(c.streamwise.max()) or 1.0, 21)
-    # contour on the cell-centred samples, closed to the walls by edge values
-    cs = ax.contourf(g.uu * um, g.vv * um, c.streamwise, levels=levels, cmap="viridis", extend="neither")
-    bar = fig.colorbar(cs, ax=ax, pad=0.02, fraction=0.05)
+    lo, hi = min(0.0, float(c.streamwise.min())), float(c.streamwise.max()) or 1.0
+    levels = MaxNLocator(nbins=20).tick_values(lo, hi)
+    uu, vv, ww = _to_walls(c)
+    cs = ax.contourf(uu * um, vv * um, ww, levels=levels, cmap="viridis")
+    cax = make_axes_locatable(ax).append_axes("right", size="2.5%", pad=0.12)
+    bar = fig.colorbar(cs, cax=cax)
     bar.set_label("streamwise speed (m/s)")
     step_u = max(1, len(g.u) // ARROWS_ACROSS)
     dv = (height / len(g.eta))
@@ -74,15 +91,15 @@ def render_png(c: Cut, title: str) -> bytes:
         q = ax.quiver(g.uu[sl] * um, g.vv[sl] * um, c.sec_n[sl], c.sec_z[sl], color="white", edgecolor="black",
                       linewidth=0.4, angles="xy", scale_units="xy", scale=scale, width=0.0028, headwidth=4)
         ref = _nice(smax)
-        ax.quiverkey(q, 0.86, 1.035, ref, f"secondary {_speed_label(ref)}", labelpos="W", coordinates="axes",
-                     color="black", fontproperties={"size": 9})
+        ax.quiverkey(q, 0.97, -0.16 - 0.3 / plot_h, ref, f"secondary flow {_speed_label(ref)}", labelpos="W",
+                     coordinates="axes", color="black", fontproperties={"size": 9})
     corners = np.vstack([o.corners, o.corners[:1]]) * um
     ax.plot(corners[:, 0], corners[:, 1], color="black", linewidth=1.5)
     left, right = _wall_names(c)
     mid_v = 0.5 * (o.bottom + 0.5 * (o.top0 + o.top1)) * um
     for u, name, ha in ((o.u0 * um, left, "right"), (o.u1 * um, right, "left")):
         ax.text(u + (-0.012 if ha == "right" else 0.012) * width, mid_v, name, rotation=90, va="center",
-                ha=ha, fontsize=9, color="firebrick", rotation_mode="anchor" if False else "default")
+                ha=ha, fontsize=9, color="firebrick", rotation_mode="default")
         ax.plot([u, u], [o.bottom * um, float(o.top(u / um)) * um], color="firebrick", linewidth=3.0)
     for k, vx in enumerate(c.figures.get("vortices", [])[:6]):
         ccw = vx["sense"] == "counter-clockwise"
