@@ -85,7 +85,11 @@ def station_arc_length(design: Design, raw: Any, key: str = "--at", line: Center
         if not isinstance(seg, Spiral):  # pragma: no cover - centerline_of always builds one
             raise TypeError(f"spiral segment expected, got {seg!r}")
         return s0 + float(seg.arclength_at(np.array(theta)))
-    s = parse_length(key, text)
+    try:
+        s = parse_length(key, text)
+    except DesignError:
+        raise DesignError(key, raw, "is not a station: write a fraction (0.5), a length with unit ('12.5mm'), "
+                          "an angle ('90deg', arcs and spirals) or 'turn=2.25' (spirals)") from None
     return _in_range(key, raw, s, line, "an arc length")
 
 
