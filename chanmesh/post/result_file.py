@@ -49,10 +49,13 @@ def _read_dataset(path: Path):  # type: ignore[no-untyped-def]
 
 def _volume_cells(grid):  # type: ignore[no-untyped-def]
     """Only the 3D cells: boundary triangles of a result would catch probes on the section plane."""
-    from vtkmodules.vtkCommonDataModel import vtkCellTypes
+    try:  # VTK >= 9.6
+        from vtkmodules.vtkCommonDataModel import vtkCellTypeUtilities as cell_types
+    except ImportError:  # pragma: no cover - older VTK
+        from vtkmodules.vtkCommonDataModel import vtkCellTypes as cell_types
 
     types = np.asarray(grid.celltypes)
-    dims = {int(t): vtkCellTypes.GetDimension(int(t)) for t in np.unique(types)}
+    dims = {int(t): cell_types.GetDimension(int(t)) for t in np.unique(types)}
     keep = np.array([dims[int(t)] == 3 for t in types], bool)
     if not keep.any():
         return None
