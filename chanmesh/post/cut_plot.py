@@ -76,7 +76,7 @@ def render_png(c: Cut, title: str) -> bytes:
     lo, hi = min(0.0, float(c.streamwise.min())), float(c.streamwise.max()) or 1.0
     levels = MaxNLocator(nbins=20).tick_values(lo, hi)
     uu, vv, ww = _to_walls(c)
-    cs = ax.contourf(uu * um, vv * um, ww, levels=levels, cmap="viridis")
+    cs = ax.contourf(uu * um, vv * um, ww, levels=levels, cmap="viridis", extend="both")
     cax = make_axes_locatable(ax).append_axes("right", size="2.5%", pad=0.12)
     bar = fig.colorbar(cs, cax=cax)
     bar.set_label("streamwise speed (m/s)")
@@ -91,8 +91,8 @@ def render_png(c: Cut, title: str) -> bytes:
         q = ax.quiver(g.uu[sl] * um, g.vv[sl] * um, c.sec_n[sl], c.sec_z[sl], color="white", edgecolor="black",
                       linewidth=0.4, angles="xy", scale_units="xy", scale=scale, width=0.0028, headwidth=4)
         ref = _nice(smax)
-        ax.quiverkey(q, 0.97, -0.16 - 0.3 / plot_h, ref, f"secondary flow {_speed_label(ref)}", labelpos="W",
-                     coordinates="axes", color="black", fontproperties={"size": 9})
+        ax.quiverkey(q, 0.06, 0.035, ref, f"secondary flow {_speed_label(ref)}", labelpos="E",
+                     coordinates="figure", color="black", fontproperties={"size": 9})
     corners = np.vstack([o.corners, o.corners[:1]]) * um
     ax.plot(corners[:, 0], corners[:, 1], color="black", linewidth=1.5)
     left, right = _wall_names(c)
@@ -120,7 +120,7 @@ def render_png(c: Cut, title: str) -> bytes:
         f"({100 * (f['secondary_max_over_streamwise_mean'] or 0):.3g} % of mean)  -  looking downstream",
         fontsize=10,
     )
-    fig.tight_layout()
+    fig.tight_layout(rect=(0.0, 0.07, 1.0, 1.0))
     buf = io.BytesIO()
     fig.savefig(buf, format="png")
     plt.close(fig)
