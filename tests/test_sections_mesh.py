@@ -127,3 +127,8 @@ def test_hex_layers_placed_on_stations_and_tagged():
     with pytest.raises(RuntimeError, match="no node layer"):
         tag_section_layers(swept_arc_hex(d, s0), d, [0.5 * (s0[5] + s0[6])])
     assert len(section_quads(swept_arc_hex(d, s0), d, float(s0[5]))) == 8
+
+
+def test_hex_stations_in_one_cell_are_refused():
+    with pytest.raises(DesignError, match="mesh.sections.*raise mesh.cells_along"):
+        layers_through_stations(np.linspace(0.0, 1e-3, 3), [0.4e-3, 0.45e-3])

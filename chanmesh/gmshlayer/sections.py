@@ -15,26 +15,12 @@ from __future__ import annotations
 import gmsh
 
 from chanmesh.design.model import Design
-from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.gmshlayer.solids import section_face
-from chanmesh.post.stations import Outline, outline_at, station_arc_lengths
+from chanmesh.post.stations import Outline, mesh_station_arc_lengths, outline_at
 
 MARGIN_ACROSS = 0.02  # of the section width
 MARGIN_HIGH = 0.10  # of the section height
-END_CLEARANCE = 1e-9  # m: a section this close to the inlet or outlet would be that face itself
-
-
-def mesh_station_arc_lengths(design: Design) -> list[float]:
-    """``station_arc_lengths`` of ``mesh.sections``, refusing stations on the inlet or outlet face."""
-    line = centerline_of(design)
-    out = station_arc_lengths(design)
-    for i, s in enumerate(out):
-        if s < END_CLEARANCE or s > line.length - END_CLEARANCE:
-            raise DesignError(f"mesh.sections[{i}]", design.mesh.sections[i],
-                              "lies on the inlet or outlet face, which is already its own group; "
-                              "choose a station strictly inside (0, 1)")
-    return out
 
 
 def embed_sections(design: Design, volume: int) -> tuple[list[int], list[list[int]]]:

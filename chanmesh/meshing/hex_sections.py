@@ -4,7 +4,8 @@ A swept mesh has node layers at arc lengths s_0 = 0 < s_1 < ... < s_nk = L. Two 
 
 1. ``layers_through_stations(s, stations, keep)`` moves the layer nearest each station onto it
    (keeping the segment breaks ``keep`` fixed, stretching the layers in between linearly), so
-   that the layer is the exact plane of the section;
+   that the layer is the exact plane of the section; the stations come from
+   ``chanmesh.post.stations.mesh_station_arc_lengths(design)``;
 2. ``tag_section_layers(mesh, design, stations)`` finds, for each station, the quad faces of
    hexahedra whose four nodes lie on that plane inside its outline, and adds them as groups
    ``section_1..k`` between ``wall`` and ``fluid`` (the fluid group's tag moves up to stay last).
@@ -15,6 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 from chanmesh.design.model import Design
+from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.verify import FACES, INTERNAL_PREFIX
@@ -27,8 +29,8 @@ def layers_through_stations(s: np.ndarray, stations: list[float], keep: np.ndarr
     """Layer arc lengths with one layer exactly at each station, and that layer's index.
 
     ``s`` (nk + 1,) increasing, m; ``keep`` arc lengths that must stay layers (segment breaks,
-    the two ends). Raises ``ValueError`` when two stations would need the same layer (refine
-    along the flow: more ``cells_along``).
+    the two ends). Raises ``DesignError`` (key ``mesh.sections``) when two stations would need
+    the same layer.
     """
     s = np.asarray(s, dtype=float)
     anchors: dict[int, float] = {0: float(s[0]), len(s) - 1: float(s[-1])}
@@ -57,7 +59,9 @@ def _free_layer(s: np.ndarray, anchors: dict[int, float], st: float) -> int:
     j = int(np.searchsorted(vals, st))  # anchors idx[j - 1] < st < idx[j]
     lo, hi = int(idx[j - 1]) + 1, int(idx[j]) - 1
     if lo > hi:
-        raise ValueError(f"no free node layer for the station at s = {st:.6g} m; use more cells along the flow")
+        raise DesignError("mesh.sections", f"s = {st * 1e3:.6g} mm",
+                          "two stations (or a station and a segment break) fall in one cell along the flow; "
+                          "raise mesh.cells_along or lower mesh.along_aspect")
     return lo + int(np.argmin(np.abs(s[lo:hi + 1] - st)))
 
 

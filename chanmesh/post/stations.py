@@ -29,6 +29,7 @@ from chanmesh.units import parse_length
 _ANGLE = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*$", re.IGNORECASE)
 _TURN = re.compile(r"^\s*turns?\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*$", re.IGNORECASE)
 ENDS_TOL = 1e-12  # relative slack at the two ends of the centreline
+END_CLEARANCE = 1e-9  # m: a mesh section this close to the inlet or outlet would be that face
 STRAIGHT_CURVATURE = 1e-9  # 1/m: below this the path counts as straight
 
 
@@ -105,6 +106,19 @@ def station_arc_lengths(design: Design, key: str = "mesh.sections") -> list[floa
         for j in range(i):
             if abs(a - out[j]) < 1e-9:
                 raise DesignError(f"{key}[{i}]", design.mesh.sections[i], f"is the same place as {key}[{j}]; give each station once")
+    return out
+
+
+def mesh_station_arc_lengths(design: Design) -> list[float]:
+    """``station_arc_lengths`` of ``mesh.sections`` for a mesh: stations on the inlet or outlet
+    face are refused (those faces are already groups of their own)."""
+    line = centerline_of(design)
+    out = station_arc_lengths(design)
+    for i, s in enumerate(out):
+        if s < END_CLEARANCE or s > line.length - END_CLEARANCE:
+            raise DesignError(f"mesh.sections[{i}]", design.mesh.sections[i],
+                              "lies on the inlet or outlet face, which is already its own group; "
+                              "choose a station strictly inside (0, 1)")
     return out
 
 
