@@ -94,11 +94,17 @@ def _on_end(com: np.ndarray, normal: np.ndarray, frame: EndFrame, half_extent: f
     )
 
 
-def label_boundary(design: Design, volume: int) -> dict[str, list[int]]:
-    """Assign every boundary surface of ``volume`` to one named group and add the physical groups.
+def label_boundary(design: Design, volume: int | list[int], sections: list[list[int]] | None = None) -> dict[str, list[int]]:
+    """Assign every boundary surface of the fluid to one named group and add the physical groups.
 
-    Returns name -> surface tags (and ``fluid`` -> [volume]). Raises if a named end is missing.
+    ``volume`` is the fluid volume, or its pieces when internal ``sections`` (surface tags of
+    section_1, section_2, ...) split it; those faces are internal and skip classification.
+    Group tags: inlet, outlet(s), wall, section_1..k, fluid. Returns name -> tags (and
+    ``fluid`` -> the volumes). Raises if a named end is missing.
     """
+    volumes = [volume] if isinstance(volume, int) else list(volume)
+    sections = sections or []
+    internal = {s for faces in sections for s in faces}
     line = centerline_of(design)
     shape = section_shape_of(design)
     start, end = end_frames(line)
@@ -106,9 +112,8 @@ def label_boundary(design: Design, volume: int) -> dict[str, list[int]]:
     names = design.outlets.names
     edges = np.cumsum((0.0,) + tuple(design.outlets.split or (1.0,)))
     groups: dict[str, list[int]] = {"inlet": [], **{n: [] for n in names}, "wall": []}
-    _, surfaces = gmsh.model.getAdjacencies(3, volume)
+    surfaces = sorted({int(s) for v in volumes for s in gmsh.model.getAdjacencies(3, v)[1]} - internal)
     for s in surfaces:
-        s = int(s)
         com, normal = _com(s), _normal(s)
         if _on_end(com, normal, start, half_extent):
             groups["inlet"].append(s)
@@ -122,10 +127,12 @@ def label_boundary(design: Design, volume: int) -> dict[str, list[int]]:
     for name, tags in groups.items():
         if name != "wall" and len(tags) != 1:
             raise RuntimeError(f"boundary '{name}' matched {len(tags)} faces, expected exactly 1")
+    for k, faces in enumerate(sections, start=1):
+        groups[f"section_{k}"] = list(faces)
     tag = 1
     for name, tags in groups.items():
         gmsh.model.addPhysicalGroup(2, tags, tag=tag, name=name)
         tag += 1
-    gmsh.model.addPhysicalGroup(3, [volume], tag=tag, name="fluid")
-    groups["fluid"] = [volume]
+    gmsh.model.addPhysicalGroup(3, volumes, tag=tag, name="fluid")
+    groups["fluid"] = volumes
     return groups

@@ -10,6 +10,7 @@ the spiral at 120 or more points a turn (GMSH-NOTES).
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
 import gmsh
 import numpy as np
@@ -19,11 +20,15 @@ from chanmesh.geometry.centerline import Arc, Centerline, Line, Spiral, centerli
 from chanmesh.geometry.section import SectionShape, section_shape_of
 from chanmesh.gmshlayer.session import MODEL_UNIT
 
+if TYPE_CHECKING:
+    from chanmesh.post.stations import Outline
+
 SPLINE_POINTS_PER_TURN = 240
 
 
-def _section_face(line: Centerline, shape: SectionShape, s: float) -> int:
-    """Plane surface of the cross-section at arc length s (model units)."""
+def section_face(line: Centerline, shape: SectionShape | Outline, s: float) -> int:
+    """Plane surface of the cross-section at arc length s (model units); ``shape`` gives the
+    (u, v) corners, the channel's ``SectionShape`` or a station's exact ``Outline``."""
     p = line.points(np.array([s]))[0]
     n = line.normals(np.array([s]))[0]
     occ = gmsh.model.occ
@@ -40,7 +45,7 @@ def _piece(line: Centerline, shape: SectionShape, index: int) -> list[tuple[int,
     occ = gmsh.model.occ
     seg = line.segments[index]
     s0 = float(line.breaks[index])
-    face = _section_face(line, shape, s0)
+    face = section_face(line, shape, s0)
     if isinstance(seg, Line):
         d = np.array([math.cos(seg.heading), math.sin(seg.heading), 0.0]) * seg.length / MODEL_UNIT
         out = occ.extrude([(2, face)], *d)

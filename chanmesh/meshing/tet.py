@@ -15,6 +15,7 @@ from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
 from chanmesh.gmshlayer.background import grading_of, install_size_field, size_grid
 from chanmesh.gmshlayer.labels import label_boundary, split_outlet
+from chanmesh.gmshlayer.sections import embed_sections
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
 from chanmesh.meshing.model import Block, ChannelMesh, Group
@@ -78,7 +79,8 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
         say("geometry")
         volume = build_solid(design)
         volume = split_outlet(design, volume)
-        label_boundary(design, volume)
+        pieces, sections = embed_sections(design, volume)
+        label_boundary(design, pieces, sections)
         say("meshing")
         install_size_field(grid, MODEL_UNIT)
         gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay surfaces
