@@ -20,6 +20,8 @@ from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.meshing.hexplan import HexPlan, plan_hex
+from chanmesh.meshing.hex_sections import tag_section_layers
+from chanmesh.post.stations import mesh_station_arc_lengths
 from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.verify import FACES
 
@@ -147,6 +149,7 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
         [Block("quad", quad_cells, quad_tags)],
         groups + [fluid],
     )
+    mesh = tag_section_layers(mesh, design, mesh_station_arc_lengths(design))
     mesh.info.update(
         {
             "mesher": "hex (structured sweep, numpy)",

@@ -143,7 +143,20 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
         [[0.0]] + [b0 + np.linspace(0.0, L, c + 1)[1:] for b0, L, c in zip(line.breaks[:-1], lengths, counts)]
     )
     s[-1] = line.length
+    s = _through_stations(design, s, line.breaks)
     return HexPlan(s, u_band, eta, (0, n_across), outlet_nodes, None, grading, ratio_high, first_high)
+
+
+def _through_stations(design: Design, s: np.ndarray, keep: np.ndarray) -> np.ndarray:
+    """Move the nearest node layers onto the design's section stations (``mesh.sections``),
+    leaving the layers in ``keep`` (segment joins, chamber walls) where they are."""
+    from chanmesh.meshing.hex_sections import layers_through_stations
+    from chanmesh.post.stations import mesh_station_arc_lengths
+
+    stations = mesh_station_arc_lengths(design)
+    if stations:
+        s, _ = layers_through_stations(s, stations, keep=keep)
+    return s
 
 
 def _chambers_plan(
@@ -189,7 +202,7 @@ def _chambers_plan(
         e = s_marks[-1]
         n = int(math.ceil(path.outlet_length / h_along - 1e-9))
         parts.append(e + np.linspace(0.0, path.outlet_length, n + 1)[1:])
-    s = np.concatenate(parts)
+    s = _through_stations(design, np.concatenate(parts), np.concatenate([centerline_of(design).breaks, s_marks]))
     mid = 0.5 * (s[:-1] + s[1:]) - path.inlet_length
     in_chamber = np.zeros(len(mid), bool)
     for x0 in starts:
