@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import pkgutil
 import sys
 from types import ModuleType
@@ -55,6 +56,9 @@ def main(argv: list[str] | None = None) -> int:
     except ChanmeshError as exc:
         print(f"chanmesh {args.command}: error: {exc}", file=sys.stderr)
         return EXIT_INPUT
+    except BrokenPipeError:  # output piped into a reader that stopped early (`| head`)
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # no second error at exit
+        return 0
     except KeyboardInterrupt:
         print(f"chanmesh {args.command}: interrupted; no partial output was left under a final name", file=sys.stderr)
         return EXIT_INTERRUPT

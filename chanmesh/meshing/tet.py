@@ -12,7 +12,6 @@ import gmsh
 import numpy as np
 
 from chanmesh.design.model import Design
-from chanmesh.errors import DesignError
 from chanmesh.gmshlayer.background import grading_of, install_size_field, size_grid
 from chanmesh.gmshlayer.labels import label_boundary, split_outlet
 from chanmesh.gmshlayer.sections import embed_sections
@@ -67,14 +66,7 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
     say = progress or (lambda _stage: None)
     grading = grading_of(design, scale)
     grid = size_grid(design, grading)
-    estimate = int(grid.estimate_tets())
-    if estimate > design.mesh.max_cells:
-        raise DesignError(
-            "mesh.max_cells",
-            design.mesh.max_cells,
-            f"the tetrahedral mesh is estimated at {estimate:,} cells; raise max_cells or coarsen "
-            "(fewer cells_across, larger wall_ratio or first_cell)",
-        )
+    estimate = int(grid.estimate_tets())  # build.check_estimate enforces mesh.max_cells before this
     with gmsh_session(threads=design.mesh.threads):
         say("geometry")
         volume = build_solid(design)

@@ -4,12 +4,11 @@ them as JSON without ever leaving a half-written file under the final name."""
 from __future__ import annotations
 
 import json
-import os
-import tempfile
 from pathlib import Path
 from typing import Any
 
 from chanmesh.errors import OutputError
+from chanmesh.safeio import atomic_write_text
 
 
 def _um(m: float) -> str:
@@ -95,17 +94,4 @@ def write_json(numbers: dict[str, Any], path: str | Path) -> Path:
     if not folder.is_dir():
         raise OutputError(f"--json {target}: the folder {folder} does not exist")
     text = json.dumps(numbers, indent=2, allow_nan=False) + "\n"
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    except OSError as exc:
-        raise OutputError(f"--json {target}: cannot write in {folder} ({exc.strerror})") from None
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        os.replace(tmp, target)
-    except BaseException as exc:
-        Path(tmp).unlink(missing_ok=True)
-        if isinstance(exc, OSError):
-            raise OutputError(f"--json {target}: cannot write ({exc.strerror})") from None
-        raise
-    return target
+    return atomic_write_text(target, text)
