@@ -13,7 +13,7 @@ from chanmesh.post.gci_io import format_report, write_report
 from chanmesh.post.gci_table import load_study
 
 NAME = "gci"
-HELP = "Apparent order, Richardson extrapolation and grid convergence index of a results table."
+HELP = "apparent order, Richardson extrapolation and grid convergence index of a results table"
 ORDER = 60
 
 

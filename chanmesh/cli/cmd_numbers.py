@@ -13,7 +13,7 @@ from chanmesh.numbers import design_numbers, render, write_json
 from chanmesh.units import parse_flow_rate, parse_length, parse_temperature, parse_velocity, split_quantity
 
 NAME = "numbers"
-HELP = "Print Reynolds and Dean numbers, focusing estimates and pressure drop of a design at a flow."
+HELP = "print Reynolds and Dean numbers, focusing estimates and pressure drop of a design at a flow"
 ORDER = 30
 
 _VISCOSITY_UNITS = {"": 1.0, "pa.s": 1.0, "pas": 1.0, "pa s": 1.0, "mpa.s": 1e-3, "mpas": 1e-3, "mpa s": 1e-3, "cp": 1e-3}
