@@ -71,7 +71,7 @@ def build(
         files: list[Path] = []
         timings: dict[str, float] = {}
         for fmt in chosen:
-            files += fmt.write(mesh, staged.stage, design.name, options)
+            files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         extra = {}
         for name, hook in MANIFEST_HOOKS:
             try:
