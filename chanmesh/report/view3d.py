@@ -112,6 +112,9 @@ def render_groups(mesh: ChannelMesh, design: Design, width: int, height: int) ->
                 edge_color=WALL_EDGE,
                 line_width=0.6,
                 opacity=0.45 if (is_wall and has_internal) else 1.0,
+                ambient=0.45,
+                diffuse=0.6,
+                specular=0.0,
             )
             drawn.append((name, colours[name]))
         plotter.enable_parallel_projection()

@@ -41,8 +41,9 @@ FLAT_SIZE = 4.0
 """Largest triangle edge on flat faces, in section widths (flat faces need no refinement)."""
 
 
-def triangulated_surface(design: Design, max_size: float) -> trimesh.Trimesh:
-    """Triangulate the boundary of the current gmsh model (synchronized), mm; outward normals.
+def triangulated_surface(design: Design, volume: int, max_size: float) -> trimesh.Trimesh:
+    """Triangulate the boundary of ``volume`` in the current gmsh model (synchronized), mm,
+    outward normals. Faces not on that boundary (a pipe's leftover section face) are left out.
 
     ``max_size`` is the largest triangle edge in model units (mm)."""
     gmsh.option.setNumber("Mesh.MeshSizeFromCurvature", CURVE_POINTS)
@@ -54,7 +55,7 @@ def triangulated_surface(design: Design, max_size: float) -> trimesh.Trimesh:
     order = np.argsort(tags)
     tags, points = tags[order], coords.reshape(-1, 3)[order]
     triangles = []
-    for _, surf in gmsh.model.getEntities(2):
+    for _, surf in gmsh.model.getBoundary([(3, volume)], oriented=False):
         types, _, conn = gmsh.model.mesh.getElements(2, surf)
         for t, c in zip(types, conn):
             if int(t) == 2:  # 3-node triangle
@@ -76,8 +77,8 @@ def _flat_size(design: Design) -> float:
 def channel_surface(design: Design) -> trimesh.Trimesh:
     """The channel solid's surface as a closed triangle shell, mm."""
     with gmsh_session(threads=design.mesh.threads):
-        build_solid(design)
-        return triangulated_surface(design, _flat_size(design))
+        volume = build_solid(design)
+        return triangulated_surface(design, volume, _flat_size(design))
 
 
 def mould_box(design: Design) -> tuple[np.ndarray, np.ndarray]:
@@ -101,9 +102,10 @@ def mould_surface(design: Design) -> trimesh.Trimesh:
         box = occ.addBox(*low, *(high - low))
         fused, _ = occ.fuse([(3, box)], [(3, channel)])
         occ.synchronize()
-        if len([dt for dt in fused if dt[0] == 3]) != 1:
-            raise RuntimeError(f"the mould of {design.name!r} came out as {len(fused)} pieces, expected 1")
-        return triangulated_surface(design, max(_flat_size(design), float(np.max(high - low)) / 20))
+        solids = [t for d, t in fused if d == 3]
+        if len(solids) != 1:
+            raise RuntimeError(f"the mould of {design.name!r} came out as {len(solids)} solids, expected 1")
+        return triangulated_surface(design, solids[0], max(_flat_size(design), float(np.max(high - low)) / 20))
 
 
 def _write_stl(surface: trimesh.Trimesh, path: Path) -> list[Path]:
