@@ -221,3 +221,19 @@ def test_bad_fabrication_keys_name_the_key(line, key):
     with pytest.raises(DesignError) as err:
         loads_design(text)
     assert err.value.key == key
+
+
+def test_build_command_overrides_fabrication_options(tmp_path, capsys):
+    from chanmesh.cli import main
+
+    design = tmp_path / "d.toml"
+    design.write_text(ARC % "um")
+    out = tmp_path / "out"
+    argv = ["build", str(design), "--out", str(out), "--format", "dxf", "--quiet",
+            "--dxf-unit", "mm", "--port-diameter", "1.2mm", "--base-thickness", "1mm"]
+    assert main(argv) == 0
+    doc = ezdxf.readfile(out / "fab-arc.dxf")
+    assert doc.header["$INSUNITS"] == 4
+    assert {round(c.dxf.radius, 9) for c in doc.modelspace().query("CIRCLE")} == {0.6}
+    assert main(["build", str(design), "--out", str(out), "--format", "dxf", "--base-thickness=-1mm"]) == 2
+    assert "fabrication.base_thickness" in capsys.readouterr().err
