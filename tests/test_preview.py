@@ -164,3 +164,18 @@ def test_preview_command_refuses_a_bad_size(tmp_path, capsys):
     assert main(["preview", str(design), "--out", str(tmp_path), "--size", "64x9999"]) == 2
     assert "--size" in capsys.readouterr().err
     assert not list(tmp_path.glob("*.png"))
+
+
+def test_auto_engine_falls_back_to_matplotlib_without_opengl(arc, arc_mesh, monkeypatch):
+    import chanmesh.report.view3d as view3d
+
+    def no_gl(*args, **kwargs):
+        raise RenderUnavailable("no OpenGL context (simulated)")
+
+    monkeypatch.setattr(view3d, "_plotter", no_gl)
+    monkeypatch.setattr(view3d, "AUTO_LIMIT", 0)  # make auto choose VTK first
+    img = _image(mesh_picture(arc_mesh, arc, 640, 480, engine="auto"))
+    assert img.shape == (480, 640, 3)
+    _not_blank(img)
+    with pytest.raises(RenderUnavailable):
+        mesh_picture(arc_mesh, arc, 640, 480, engine="vtk")

@@ -16,6 +16,7 @@ where they show the grading, and left out on large ones, where they would only d
 from __future__ import annotations
 
 import io
+import os
 
 import matplotlib
 
@@ -83,6 +84,9 @@ def _camera_basis(design: Design) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def _plotter(width: int, height: int):  # type: ignore[no-untyped-def]
+    if not os.environ.get("DISPLAY"):
+        # go straight to EGL: VTK would otherwise try X first and print a warning
+        os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     import pyvista as pv
 
     pv.OFF_SCREEN = True
@@ -193,20 +197,25 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
     """PNG of the mesh's surface groups at ``width`` x ``height`` px, with a title and a legend."""
     if engine not in ENGINES:
         raise ValueError(f"engine = {engine!r}, but one of {ENGINES} is expected")
+    fallback = engine == "auto"
     if engine == "auto":
         engine = "mpl" if sum(len(b.cells) for b in mesh.facets) <= AUTO_LIMIT else "vtk"
+    image = None
+    if engine == "vtk":
+        try:
+            image, drawn = render_groups(mesh, design, width, height)
+        except RenderUnavailable:
+            if not fallback:
+                raise
     fig = plt.figure(figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER)
     try:
-        ax = fig.add_axes((0.01, 0.01, 0.98, 0.86 if engine == "mpl" else 0.98))
-        ax.set_axis_off()
-        if engine == "vtk":
-            image, drawn = render_groups(mesh, design, width, height)
-            fig.delaxes(ax)
+        if image is not None:
             ax = fig.add_axes((0, 0, 1, 1))
-            ax.set_axis_off()
             ax.imshow(image, interpolation="nearest")
         else:
+            ax = fig.add_axes((0.01, 0.01, 0.98, 0.86))
             drawn = draw_groups_mpl(ax, mesh, design)
+        ax.set_axis_off()
         counts = ", ".join(f"{n:,} {t}" for t, n in mesh.cell_counts().items())
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
                  fontsize=13, color=INK, weight="bold")
