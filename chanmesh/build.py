@@ -1,7 +1,7 @@
 """The build: design in, checked and labelled mesh files plus a manifest out.
 
     design -> estimate (refuse above max_cells) -> mesh -> check tagging -> write formats
-           -> manifest -> rename everything into place (manifest last)
+           -> report.html -> manifest -> rename everything into place (manifest last)
 """
 
 from __future__ import annotations
@@ -18,6 +18,7 @@ from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.registry import mesher_for
 from chanmesh.meshing.verify import check_boundary_tagging
 from chanmesh.progress import StageClock
+from chanmesh.report import write_report
 from chanmesh.safeio import StagedOutput
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
 
@@ -85,13 +86,16 @@ def build(
         files: list[Path] = []
         timings: dict[str, float] = {}
         for fmt in chosen:
-            files += fmt.write(mesh, staged.stage, design.name, options)
+            files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         extra = {}
         for name, hook in MANIFEST_HOOKS:
             try:
                 extra[name] = hook(design, mesh)
             except DesignError as exc:
                 extra[name] = {"skipped": str(exc)}
+        clock("report")
+        draft = make_manifest(design, mesh, [], request, dict(clock.marks), extra)  # no file hashes yet
+        files.append(write_report(staged.stage, design, mesh, draft, files))
         timings = dict(clock.marks)
         manifest = make_manifest(design, mesh, files, request, timings, extra)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")

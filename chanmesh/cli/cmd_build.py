@@ -3,12 +3,17 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 from pathlib import Path
 
 from chanmesh.build import build
-from chanmesh.design import load_design
+from chanmesh.design import Design, load_design
+from chanmesh.design.checks import check_design
 from chanmesh.progress import StageClock
+from chanmesh.units import parse_length
 from chanmesh.writers import DEFAULT_FORMATS, FORMATS, WriteOptions
+
+FABRICATION_LENGTHS = ("mould_margin", "base_thickness", "port_diameter")
 
 NAME = "build"
 HELP = "mesh a design file and write mesh files and manifest.json"
@@ -31,10 +36,31 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--msh-version", choices=("4.1", "2.2"), default="4.1", help="MSH file version (default 4.1)")
     p.add_argument("--binary", action="store_true", help="binary MSH instead of ASCII")
     p.add_argument("--quiet", action="store_true", help="no progress lines")
+    fab = p.add_argument_group("fabrication outputs (override the design's [fabrication] table)")
+    fab.add_argument("--mould-margin", metavar="LENGTH", help="mould plate beyond the footprint, with unit (e.g. 2mm)")
+    fab.add_argument("--base-thickness", metavar="LENGTH", help="mould plate thickness, with unit (e.g. 1.5mm)")
+    fab.add_argument("--port-diameter", metavar="LENGTH", help="DXF punch circle diameter, with unit (0mm: none)")
+    fab.add_argument("--dxf-unit", choices=("um", "mm"), help="drawing unit of the DXF plan")
+
+
+def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Design:
+    """The design with any --mould-margin, --base-thickness, --port-diameter, --dxf-unit applied."""
+    changes: dict[str, object] = {}
+    for key in FABRICATION_LENGTHS:
+        text = getattr(args, key, None)
+        if text is not None:
+            changes[key] = parse_length("--" + key.replace("_", "-"), text)
+    if getattr(args, "dxf_unit", None):
+        changes["dxf_unit"] = args.dxf_unit
+    if not changes:
+        return design
+    design = dataclasses.replace(design, fabrication=dataclasses.replace(design.fabrication, **changes))
+    check_design(design)
+    return design
 
 
 def run(args: argparse.Namespace) -> int:
-    design = load_design(args.design)
+    design = with_fabrication_overrides(load_design(args.design), args)
     out = args.out or Path("out") / design.name
     clock = StageClock(quiet=args.quiet)
     result = build(design, out, formats=args.format, options=WriteOptions(args.msh_version, args.binary), clock=clock)

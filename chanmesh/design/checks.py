@@ -42,6 +42,7 @@ def check_design(design: Design) -> None:
     _check_path(design)
     _check_outlets(design)
     _check_mesh(design)
+    _check_fabrication(design)
 
 
 def _check_section(design: Design) -> None:
@@ -156,3 +157,16 @@ def _check_mesh(design: Design) -> None:
         raise DesignError("mesh.max_cells", m.max_cells, "must be a whole number from 1 to 2000000000")
     if not 1 <= m.threads <= 256:
         raise DesignError("mesh.threads", m.threads, "must be a whole number from 1 to 256")
+
+
+DXF_UNITS = ("um", "mm")
+
+
+def _check_fabrication(design: Design) -> None:
+    fab = design.fabrication
+    _positive(design, "fabrication.mould_margin", fab.mould_margin)
+    _positive(design, "fabrication.base_thickness", fab.base_thickness)
+    if fab.port_diameter < 0:
+        raise DesignError("fabrication.port_diameter", _fmt(design, fab.port_diameter), "must be 0 (no punch circles) or more")
+    if fab.dxf_unit not in DXF_UNITS:
+        raise DesignError("fabrication.dxf_unit", fab.dxf_unit, f"must be one of {', '.join(repr(u) for u in DXF_UNITS)}")

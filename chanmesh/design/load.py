@@ -18,6 +18,7 @@ from typing import Any, Callable
 from chanmesh.design.model import (
     PATH_KINDS,
     Design,
+    Fabrication,
     FlowSpec,
     MeshSpec,
     Outlets,
@@ -185,7 +186,14 @@ FLOW_KEYS: dict[str, Key] = {
     "biological": Key(read_bool),
 }
 
-TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow")
+FABRICATION_KEYS: dict[str, Key] = {
+    "mould_margin": Key(read_length, default=Fabrication.mould_margin),
+    "base_thickness": Key(read_length, default=Fabrication.base_thickness),
+    "dxf_unit": Key(read_str, default=Fabrication.dxf_unit),
+    "port_diameter": Key(read_length, default=Fabrication.port_diameter),
+}
+
+TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow", "fabrication")
 
 
 def _unknown(key: str, known: list[str]) -> DesignError:
@@ -245,7 +253,8 @@ def design_from_dict(data: dict[str, Any]) -> Design:
     outlets = Outlets(**read_table(_table(data.get("outlets"), "outlets"), "outlets", OUTLET_KEYS, scale))
     mesh = MeshSpec(**read_table(_table(data.get("mesh"), "mesh"), "mesh", MESH_KEYS, scale))
     flow = FlowSpec(**read_table(_table(data.get("flow"), "flow"), "flow", FLOW_KEYS, scale))
-    design = Design(name=name, section=section, path=path, outlets=outlets, mesh=mesh, flow=flow, unit=unit)
+    fab = Fabrication(**read_table(_table(data.get("fabrication"), "fabrication"), "fabrication", FABRICATION_KEYS, scale))
+    design = Design(name=name, section=section, path=path, outlets=outlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
     check_design(design)
     return design
 

@@ -149,6 +149,16 @@ class FlowSpec:
 
 
 @dataclass(frozen=True)
+class Fabrication:
+    """Options of the fabrication outputs (STEP, STL, mould, DXF); lengths in metres."""
+
+    mould_margin: float = 2e-3  # block edge beyond the channel footprint, each side
+    base_thickness: float = 2e-3  # base plate under the channel in the mould
+    dxf_unit: str = "um"  # "um" | "mm": drawing unit of the DXF plan
+    port_diameter: float = 1e-3  # punch circle at each port in the DXF (0: none)
+
+
+@dataclass(frozen=True)
 class Design:
     """One channel design. ``unit`` records the unit the file was written in (for display)."""
 
@@ -158,6 +168,7 @@ class Design:
     outlets: Outlets = field(default_factory=Outlets)
     mesh: MeshSpec = field(default_factory=MeshSpec)
     flow: FlowSpec = field(default_factory=FlowSpec)
+    fabrication: Fabrication = field(default_factory=Fabrication)
     unit: str = "um"
 
     @property
@@ -177,6 +188,7 @@ class Design:
             "outlets": {"split": list(self.outlets.split)},
             "mesh": {**dataclasses.asdict(self.mesh), "sections": list(self.mesh.sections)},
             "flow": {**dataclasses.asdict(self.flow), "particles": list(self.flow.particles)},
+            "fabrication": dataclasses.asdict(self.fabrication),
         }
         return _finite(out)
 

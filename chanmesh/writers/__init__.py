@@ -1,6 +1,7 @@
-"""Output formats by name. A writer is a function ``write(mesh, folder, stem, options) ->
+"""Output formats by name. A mesh writer is a function ``write(mesh, folder, stem, options) ->
 list[Path]`` that writes ``folder/stem.<suffix>`` (and any companion files) and returns the
-paths. The build writes into a staging folder and renames the results into place, so writers
+paths. A fabrication writer (``source = "design"``) has the same shape but takes the design
+instead of the mesh: STEP, STL, mould and DXF are made from the exact solid, not the cells. The build writes into a staging folder and renames the results into place, so writers
 need not be atomic themselves. Add a format by adding a module and an entry here.
 """
 
@@ -11,6 +12,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
 
+from chanmesh.design.model import Design
 from chanmesh.meshing.model import ChannelMesh
 
 
@@ -28,14 +30,21 @@ class Format:
     function: str
     summary: str
     keeps_names: bool
+    source: str = "mesh"  # "mesh": written from the ChannelMesh; "design": from the design's solid
 
     def write(self, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
         fn: Callable[..., list[Path]] = getattr(importlib.import_module(self.module), self.function)
         return fn(mesh, folder, stem, options)
 
+    def write_for(self, design: Design, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
+        """Write from whichever input this format is made from."""
+        fn: Callable[..., list[Path]] = getattr(importlib.import_module(self.module), self.function)
+        return fn(design if self.source == "design" else mesh, folder, stem, options)
+
 
 _G = "chanmesh.writers.gmsh_formats"
 _M = "chanmesh.writers.meshio_formats"
+_S = "chanmesh.writers.solid_formats"
 
 FORMATS: dict[str, Format] = {
     f.name: f
@@ -48,6 +57,10 @@ FORMATS: dict[str, Format] = {
         Format("cgns", ".cgns", _G, "write_cgns", "CGNS (gmsh's writer), zones and boundary conditions named", True),
         Format("inp", ".inp", _M, "write_abaqus", "Abaqus input (meshio), element sets per group", True),
         Format("mesh", ".mesh", _M, "write_medit", "Medit (meshio), references = group tags", False),
+        Format("step", ".step", _S, "write_step", "STEP AP214 of the channel solid, millimetres (CAD, milling)", False, "design"),
+        Format("stl", ".stl", _S, "write_stl", "binary STL of the channel solid, watertight, millimetres", False, "design"),
+        Format("mould.stl", ".mould.stl", _S, "write_mould_stl", "binary STL of a casting mould: base plate with the channel standing proud, mm", False, "design"),
+        Format("dxf", ".dxf", "chanmesh.writers.dxf", "write_dxf", "DXF plan: channel outline and port punch circles on their own layers (um or mm)", False, "design"),
     )
 }
 
@@ -60,3 +73,8 @@ def format_named(name: str) -> Format:
     if name not in FORMATS:
         raise DesignError("--format", name, f"must be one of {', '.join(FORMATS)}")
     return FORMATS[name]
+
+
+def fabrication_formats() -> tuple[str, ...]:
+    """Names of the formats made from the design's solid rather than from the mesh."""
+    return tuple(n for n, f in FORMATS.items() if f.source == "design")

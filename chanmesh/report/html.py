@@ -1,0 +1,263 @@
+"""``report.html``: one self-contained page per build, readable in any browser without a server.
+
+Everything is inside the file: pictures are PNGs embedded as ``data:`` URIs, the style sheet is
+inline, and there is no script. Sections: pictures (plan view, 3D mesh), design table (in the
+design file's unit), derived geometry, mesh figures (cell counts, quality histograms when the
+manifest has a ``quality`` section), physical groups with measured and analytic sizes, design
+numbers (when the design gives a flow), output files and the cautions.
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import math
+from pathlib import Path
+from typing import Any
+
+from chanmesh.design.load import FABRICATION_KEYS, LEAD_KEYS, MESH_KEYS, PATH_KEYS, SECTION_KEYS, read_length, read_length_list
+from chanmesh.design.model import Design
+from chanmesh.errors import DesignError
+from chanmesh.geometry.section import section_shape_of
+from chanmesh.meshing.model import ChannelMesh
+from chanmesh.report.charts import histogram_of, histogram_png
+from chanmesh.report.palette import INK, INLET, WALL
+from chanmesh.report.plan_view import plan_picture
+from chanmesh.report.view3d import mesh_picture
+
+REPORT = "report.html"
+
+CAUTIONS = (
+    "A simulation on this mesh does not replace validation of the device: compare with "
+    "measurements before relying on it.",
+    "A mould or mask made from the fabrication files must still be checked against the "
+    "fabricator's design rules (minimum feature, draft, resist thickness).",
+    "Bonded chips have pressure limits; stay within the bond's rating at the planned flow.",
+    "Biological samples need the biosafety practice of your site; local rules and qualified "
+    "practice come first.",
+)
+
+_LENGTH_FIELDS = {
+    k
+    for table in (SECTION_KEYS, LEAD_KEYS, MESH_KEYS, FABRICATION_KEYS, *PATH_KEYS.values())
+    for k, spec in table.items()
+    if spec.read in (read_length, read_length_list)
+} | {"height_inner", "height_outer", "particles"}
+
+_FLOW_SHOWN = {  # key: (unit shown, factor from SI)
+    "rate": ("µL/min", 1e9 * 60.0),
+    "velocity": ("m/s", 1.0),
+    "temperature": ("K", 1.0),
+    "density": ("kg/m³", 1.0),
+    "viscosity": ("Pa·s", 1.0),
+}
+
+_STYLE = f"""
+body {{ font-family: system-ui, -apple-system, 'Segoe UI', sans-serif; color: {INK}; margin: 2rem auto;
+       max-width: 72rem; padding: 0 1rem; line-height: 1.4; }}
+h1 {{ font-size: 1.6rem; margin-bottom: 0.2rem; }}
+h2 {{ font-size: 1.2rem; border-bottom: 2px solid {WALL}; padding-bottom: 0.2rem; margin-top: 2rem; }}
+table {{ border-collapse: collapse; margin: 0.5rem 0; font-size: 0.92rem; }}
+th, td {{ text-align: left; padding: 0.2rem 0.8rem 0.2rem 0; border-bottom: 1px solid #E3E7EA; vertical-align: top; }}
+th {{ color: {INLET}; font-weight: 600; }}
+td.num {{ text-align: right; font-variant-numeric: tabular-nums; }}
+figure {{ margin: 0.8rem 0; }}
+img {{ max-width: 100%; height: auto; border: 1px solid #E3E7EA; }}
+.charts img {{ width: 32rem; }}
+.cols {{ display: flex; flex-wrap: wrap; gap: 0 3rem; }}
+.note {{ color: #55616B; font-size: 0.9rem; }}
+.caution {{ background: #FFF6E5; border-left: 4px solid #E69A2E; padding: 0.6rem 1rem; }}
+"""
+
+
+def _img(png: bytes, alt: str) -> str:
+    data = base64.b64encode(png).decode("ascii")
+    return f'<img src="data:image/png;base64,{data}" alt="{html.escape(alt)}">'
+
+
+def _num(x: Any, digits: int = 6) -> str:
+    if isinstance(x, bool) or x is None:
+        return html.escape(str(x))
+    if isinstance(x, int):
+        return f"{x:,}"
+    if isinstance(x, float):
+        return f"{x:.{digits}g}" if math.isfinite(x) else "—"
+    return html.escape(str(x))
+
+
+def _table(header: list[str], rows: list[list[Any]]) -> str:
+    head = "".join(f"<th>{html.escape(h)}</th>" for h in header)
+    body = []
+    for row in rows:
+        cells = []
+        for v in row:
+            cls = ' class="num"' if isinstance(v, (int, float)) and not isinstance(v, bool) else ""
+            cells.append(f"<td{cls}>{_num(v)}</td>")
+        body.append("<tr>" + "".join(cells) + "</tr>")
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+
+
+def _columns(*blocks: str) -> str:
+    return '<div class="cols">' + "".join(f"<div>{b}</div>" for b in blocks if b) + "</div>"
+
+
+def design_rows(design: Design) -> list[list[Any]]:
+    """(key, value, unit) rows of the resolved design, lengths in the design file's unit."""
+    per = 1.0 / design.scale
+    rows: list[list[Any]] = [["name", design.name, ""], ["unit", design.unit, ""]]
+    for table, values in design.to_dict().items():
+        if not isinstance(values, dict):
+            continue
+        for key, value in values.items():
+            full = f"{table}.{key}"
+            if value is None or value == [] or value == ():
+                rows.append([full, "—", ""])
+            elif key in _LENGTH_FIELDS and table != "flow" or (table == "flow" and key == "particles"):
+                if isinstance(value, list):
+                    rows.append([full, ", ".join(f"{v * per:.6g}" for v in value), design.unit])
+                else:
+                    rows.append([full, float(value) * per, design.unit])
+            elif table == "flow" and key in _FLOW_SHOWN:
+                unit, factor = _FLOW_SHOWN[key]
+                rows.append([full, float(value) * factor, unit])
+            elif isinstance(value, list):
+                rows.append([full, ", ".join(str(v) for v in value), ""])
+            else:
+                rows.append([full, value, "deg" if key == "angle" else ""])
+    return rows
+
+
+def geometry_rows(design: Design, manifest: dict[str, Any]) -> list[list[Any]]:
+    g = manifest["geometry"]
+    shape = section_shape_of(design)
+    return [
+        ["centreline length", g["centerline_length"] * 1e3, "mm"],
+        ["volume", g["volume"] * 1e9, "µL (mm³)"],
+        ["section area", g["section_area"] * 1e12, "µm²"],
+        ["hydraulic diameter 4A/P", shape.hydraulic_diameter * 1e6, "µm"],
+        ["plan area (footprint)", g["plan_area"] * 1e6, "mm²"],
+    ]
+
+
+def group_rows(manifest: dict[str, Any]) -> list[list[Any]]:
+    rows = []
+    for g in manifest["groups"]:
+        unit = "mm³" if g["dim"] == 3 else "mm²"
+        f = 1e9 if g["dim"] == 3 else 1e6
+        analytic = g.get("analytic")
+        rows.append([
+            g["name"], g["dim"], g["tag"], g["entities"], g["measured"] * f,
+            analytic * f if analytic is not None else "—",
+            f"{g['relative_error']:+.2e}" if "relative_error" in g else "—", unit,
+        ])
+    return rows
+
+
+def _quality_section(manifest: dict[str, Any]) -> str:
+    quality = manifest.get("quality")
+    if not isinstance(quality, dict) or "skipped" in quality or not quality:
+        return '<p class="note">No quality figures in this build\'s manifest.</p>'
+    charts, summary = [], []
+    for name, entry in quality.items():
+        hist = histogram_of(entry)
+        if hist is not None:
+            charts.append(_img(histogram_png(name, *hist), f"histogram of {name}"))
+        if isinstance(entry, dict):
+            nums = {k: v for k, v in entry.items() if isinstance(v, (int, float)) and not isinstance(v, bool)}
+            if nums:
+                summary.append([name, ", ".join(f"{k} {_num(v, 4)}" for k, v in nums.items())])
+    out = f'<div class="charts">{"".join(charts)}</div>' if charts else ""
+    if summary:
+        out += _table(["figure", "summary"], summary)
+    return out or '<p class="note">The quality section holds no histogram or summary numbers.</p>'
+
+
+def numbers_of(design: Design, manifest: dict[str, Any]) -> dict[str, Any] | str:
+    """The design numbers: the manifest's own, else computed; a message when there is no flow."""
+    found = manifest.get("numbers")
+    if isinstance(found, dict) and "skipped" not in found:
+        return found
+    from chanmesh.numbers import design_numbers
+
+    try:
+        return design_numbers(design)
+    except DesignError as exc:
+        return f"No design numbers: {exc}"
+
+
+def _numbers_section(numbers: dict[str, Any] | str) -> str:
+    if isinstance(numbers, str):
+        return f'<p class="note">{html.escape(numbers)}</p>'
+    flow = numbers.get("flow") or {}
+    sec = numbers.get("section") or {}
+    fluid = numbers.get("fluid") or {}
+    pressure = numbers.get("pressure") or {}
+    rows = [
+        ["fluid", fluid.get("name", "—"), ""],
+        ["flow rate", (flow.get("rate_m3_s") or math.nan) * 1e9 * 60, "µL/min"],
+        ["mean velocity", flow.get("mean_velocity_m_s", math.nan), "m/s"],
+        ["Reynolds number (on D_h)", flow.get("reynolds", math.nan), ""],
+        ["hydraulic diameter", (sec.get("hydraulic_diameter_m") or math.nan) * 1e6, "µm"],
+        ["pressure drop", pressure.get("drop_kPa", math.nan), "kPa"],
+    ]
+    out = _table(["number", "value", "unit"], rows)
+    stations = (numbers.get("dean") or {}).get("stations") or []
+    if stations:
+        out += _table(["Dean station", "Dean number", "regime"],
+                      [[s.get("label", ""), s.get("dean", math.nan), s.get("regime", "")] for s in stations])
+    return out
+
+
+def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> str:
+    """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used)."""
+    plan = plan_picture(design, 1100, 720).png
+    view = mesh_picture(mesh, design, 1100, 720)
+    cells = [[t, n] for t, n in manifest["cells"].items()] + [["points", manifest["points"]]]
+    info = manifest.get("mesher", {})
+    mesher_rows = [
+        [k, v * 1e6, "µm"] if k.endswith("_cell") and isinstance(v, float) else [k, v, ""]
+        for k, v in info.items()
+        if isinstance(v, (int, float, str)) and not isinstance(v, bool)
+    ]
+    rows = design_rows(design)
+    half = (len(rows) + 1) // 2
+    listing = [[p.name, p.stat().st_size] for p in sorted(files) if p.exists()]
+    parts = [
+        "<!DOCTYPE html>",
+        '<html lang="en"><head><meta charset="utf-8">',
+        '<meta name="viewport" content="width=device-width, initial-scale=1">',
+        f"<title>{html.escape(design.name)} · chanmesh build report</title>",
+        f"<style>{_STYLE}</style></head><body>",
+        f"<h1>{html.escape(design.name)}</h1>",
+        f'<p class="note">chanmesh {html.escape(str(manifest.get("versions", {}).get("chanmesh", "")))} build report · '
+        f'design hash <code>{html.escape(str(manifest.get("design_hash", ""))[:16])}</code></p>',
+        "<h2>Pictures</h2>",
+        f"<figure>{_img(plan, 'plan view of the channel to scale')}</figure>",
+        f"<figure>{_img(view, 'the mesh in 3D, groups coloured')}</figure>",
+        "<h2>Design</h2>",
+        _columns(_table(["key", "value", "unit"], rows[:half]),
+                 _table(["key", "value", "unit"], rows[half:])),
+        "<h2>Derived geometry</h2>",
+        _table(["quantity", "value", "unit"], geometry_rows(design, manifest)),
+        "<h2>Mesh</h2>",
+        _columns(_table(["cells", "count"], cells), _table(["mesher", "value", "unit"], mesher_rows) if mesher_rows else ""),
+        "<h3>Quality</h3>",
+        _quality_section(manifest),
+        "<h2>Physical groups</h2>",
+        _table(["group", "dim", "tag", "entities", "measured", "analytic", "relative error", "unit"], group_rows(manifest)),
+        "<h2>Design numbers</h2>",
+        _numbers_section(numbers_of(design, manifest)),
+        "<h2>Files</h2>",
+        _table(["file", "bytes"], listing) if listing else '<p class="note">No files.</p>',
+        "<h2>Cautions</h2>",
+        '<div class="caution"><ul>' + "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS) + "</ul></div>",
+        "</body></html>",
+    ]
+    return "\n".join(p for p in parts if p) + "\n"
+
+
+def write_report(folder: Path, design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> Path:
+    """Write ``folder/report.html`` and return its path (the build stages the folder)."""
+    path = Path(folder) / REPORT
+    path.write_text(report_html(design, mesh, manifest, files), encoding="utf-8")
+    return path

@@ -1,0 +1,181 @@
+"""Pictures: plan view (size, not blank, scale bar true to the drawing), 3D mesh view, palette.
+
+The plan view's scale is checked against the design itself: the channel's extent in pixels,
+measured in the image, divided by its extent in mm worked out by hand from the path
+(arc about the origin from (R, 0), leads straight on), gives the drawing's px/mm; the scale
+bar measured in the same image must be ``bar_mm`` times that. The palette is checked with
+colorspacious, a general colour-science library (CVD model of Machado, Oliveira & Fernandes
+2009; CAM02-UCS distances, Luo, Cui & Li 2006).
+"""
+
+from __future__ import annotations
+
+import io
+import itertools
+import math
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from chanmesh.cli import main
+from chanmesh.design import loads_design
+from chanmesh.errors import DesignError
+from chanmesh.geometry.stations import station_arclength
+from chanmesh.meshing.registry import mesher_for
+from chanmesh.report.palette import PALETTE, SCALE_BAR, WALL
+from chanmesh.report.plan_view import nice_length, plan_picture
+from chanmesh.report.view3d import RenderUnavailable, mesh_picture
+
+ARC = """
+name = "pic-arc"
+unit = "um"
+[section]
+width = 200
+height = 50
+[path]
+kind = "arc"
+radius = 2000
+angle = 90
+inlet_length = 500
+outlet_length = 800
+[outlets]
+split = [0.4, 0.6]
+[mesh]
+cells_across = 4
+sections = [0.5, "45deg", "1.2mm"]
+"""
+
+
+def _rgb(hex_colour: str) -> np.ndarray:
+    return np.array([int(hex_colour[i:i + 2], 16) for i in (1, 3, 5)])
+
+
+def _image(png: bytes) -> np.ndarray:
+    return np.asarray(Image.open(io.BytesIO(png)).convert("RGB")).astype(int)
+
+
+def _not_blank(img: np.ndarray) -> None:
+    inked = np.any(np.abs(img - 255) > 30, axis=2)
+    assert 0.01 < inked.mean() < 0.9  # some drawing, not a filled or empty frame
+    assert img.std() > 10
+
+
+@pytest.fixture(scope="module")
+def arc():
+    return loads_design(ARC)
+
+
+@pytest.fixture(scope="module")
+def arc_mesh(arc):
+    return mesher_for(arc).mesh(arc)
+
+
+def test_plan_view_has_the_requested_size_and_is_not_blank(arc):
+    pic = plan_picture(arc, 900, 640)
+    img = _image(pic.png)
+    assert img.shape == (640, 900, 3)
+    _not_blank(img)
+
+
+def test_plan_view_scale_bar_matches_the_drawing_scale(arc):
+    pic = plan_picture(arc, 1000, 700)
+    img = _image(pic.png)
+    # the channel's extent in pixels: pixels of the fill colour (interior, not anti-aliased)
+    fill = np.all(img == _rgb(WALL), axis=2)
+    cols, rows = np.nonzero(fill.any(axis=0))[0], np.nonzero(fill.any(axis=1))[0]
+    # by hand: x from -outlet_length (outlet lead toward -x at y = R) to R + w/2;
+    #          y from -inlet_length (inlet lead below (R, 0)) to R + w/2
+    R, w, Li, Lo = 2.0, 0.2, 0.5, 0.8
+    x_mm, y_mm = (R + w / 2) + Lo, (R + w / 2) + Li
+    px_per_mm_x = (cols[-1] - cols[0] + 1) / x_mm
+    px_per_mm_y = (rows[-1] - rows[0] + 1) / y_mm
+    assert px_per_mm_x == pytest.approx(px_per_mm_y, rel=0.01)  # equal aspect
+    assert px_per_mm_x == pytest.approx(pic.px_per_mm, rel=0.01)
+    # the bar: pure black appears nowhere else in the picture
+    bar = np.all(img == _rgb(SCALE_BAR), axis=2)
+    lengths = bar.sum(axis=1)
+    assert lengths.max() == pytest.approx(pic.bar_px, abs=1)
+    assert bar[pic.bar_row].sum() == pytest.approx(pic.bar_px, abs=1)
+    assert lengths.max() / px_per_mm_x == pytest.approx(pic.bar_mm, rel=0.01)
+
+
+def test_nice_length_picks_1_2_5_steps():
+    assert nice_length(0.73) == 0.5
+    assert nice_length(1.9) == 1.0
+    assert nice_length(4.99) == 2.0
+    assert nice_length(37.0) == 20.0
+
+
+def test_mesh_view_mpl_has_the_size_and_shows_the_groups(arc, arc_mesh):
+    img = _image(mesh_picture(arc_mesh, arc, 800, 600, engine="mpl"))
+    assert img.shape == (600, 800, 3)
+    _not_blank(img)
+    # the legend swatches are drawn in the exact group colours
+    for colour in ("#1D4E89", "#E69A2E", "#9B6FC6", WALL):
+        assert np.all(img == _rgb(colour), axis=2).sum() > 50, colour
+
+
+def test_mesh_view_vtk_renders_off_screen(arc, arc_mesh):
+    try:
+        png = mesh_picture(arc_mesh, arc, 640, 480, engine="vtk")
+    except RenderUnavailable as exc:
+        pytest.skip(f"no off-screen OpenGL here: {exc}")
+    img = _image(png)
+    assert img.shape == (480, 640, 3)
+    _not_blank(img)
+
+
+def test_palette_stays_apart_for_colour_blind_readers():
+    cs = pytest.importorskip("colorspacious", reason="colorspacious (test extra) checks the palette")
+    rgb = [_rgb(c) / 255.0 for c in PALETTE]
+    for cvd in (None, "protanomaly", "deuteranomaly", "tritanomaly"):
+        seen = [np.clip(cs.cspace_convert(c, {"name": "sRGB1+CVD", "cvd_type": cvd, "severity": 100}, "sRGB1"), 0, 1)
+                if cvd else c for c in rgb]
+        ucs = [cs.cspace_convert(c, "sRGB1", "CAM02-UCS") for c in seen]
+        closest = min(np.linalg.norm(a - b) for a, b in itertools.combinations(ucs, 2))
+        # 13 units: our threshold, several times a just-noticeable difference (~1-2; common practice, no source)
+        assert closest > 13.0, cvd
+
+
+def test_stations_resolve_to_arc_lengths(arc):
+    R, Li = 2e-3, 0.5e-3
+    L = Li + R * math.pi / 2 + 0.8e-3
+    assert station_arclength(arc, 0.5) == pytest.approx(0.5 * L)
+    assert station_arclength(arc, "45deg") == pytest.approx(Li + R * math.pi / 4, rel=1e-6)
+    assert station_arclength(arc, "1.2mm") == pytest.approx(1.2e-3)
+    for bad in (1.5, "200deg", "9mm", "turn=x", True):
+        with pytest.raises(DesignError):
+            station_arclength(arc, bad)
+
+
+def test_preview_command_writes_both_pictures(tmp_path):
+    design = tmp_path / "d.toml"
+    design.write_text(ARC)
+    assert main(["preview", str(design), "--out", str(tmp_path / "pics"), "--size", "640x480"]) == 0
+    for suffix in ("plan", "mesh"):
+        img = Image.open(tmp_path / "pics" / f"pic-arc.{suffix}.png")
+        assert img.size == (640, 480)
+
+
+def test_preview_command_refuses_a_bad_size(tmp_path, capsys):
+    design = tmp_path / "d.toml"
+    design.write_text(ARC)
+    assert main(["preview", str(design), "--out", str(tmp_path), "--size", "64x9999"]) == 2
+    assert "--size" in capsys.readouterr().err
+    assert not list(tmp_path.glob("*.png"))
+
+
+def test_auto_engine_falls_back_to_matplotlib_without_opengl(arc, arc_mesh, monkeypatch):
+    import chanmesh.report.view3d as view3d
+
+    def no_gl(*args, **kwargs):
+        raise RenderUnavailable("no OpenGL context (simulated)")
+
+    monkeypatch.setattr(view3d, "_plotter", no_gl)
+    monkeypatch.setattr(view3d, "AUTO_LIMIT", 0)  # make auto choose VTK first
+    img = _image(mesh_picture(arc_mesh, arc, 640, 480, engine="auto"))
+    assert img.shape == (480, 640, 3)
+    _not_blank(img)
+    with pytest.raises(RenderUnavailable):
+        mesh_picture(arc_mesh, arc, 640, 480, engine="vtk")

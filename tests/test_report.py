@@ -1,0 +1,125 @@
+"""report.html: written by every build, self-contained, and rendered by a real browser.
+
+The browser check uses headless Chromium (Debian's ``chromium`` package; the test skips with
+the reason when it is not installed): a screenshot must not be blank, no console message may
+appear (the page has no script of its own, so any message is an error), and every image must
+have decoded (``naturalWidth > 0``), read from the DOM after load by a probe script added to a
+copy of the page.
+"""
+
+from __future__ import annotations
+
+import base64
+import io
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from chanmesh.build import build
+from chanmesh.design import loads_design
+from chanmesh.report import REPORT, report_html
+
+DESIGN = """
+name = "rep-arc"
+unit = "um"
+[section]
+width = 150
+height = 60
+[path]
+kind = "arc"
+radius = 1200
+angle = 150
+inlet_length = 300
+[mesh]
+cells_across = 4
+[flow]
+rate = "100uL/min"
+"""
+
+CHROMIUM = shutil.which("chromium") or ("/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None)
+needs_chromium = pytest.mark.skipif(CHROMIUM is None, reason="headless Chromium is not installed (apt-get install -y chromium)")
+
+PROBE = """<script>
+window.addEventListener("load", function () {
+  var imgs = Array.from(document.images);
+  var ok = imgs.filter(function (i) { return i.complete && i.naturalWidth > 0; }).length;
+  document.body.setAttribute("data-images", ok + "/" + imgs.length);
+});
+</script>"""
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    out = tmp_path_factory.mktemp("report")
+    return build(loads_design(DESIGN), out, formats=("msh",))
+
+
+def _chromium(*args: str) -> subprocess.CompletedProcess:
+    cmd = [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--hide-scrollbars", "--enable-logging=stderr", "--v=0", *args]
+    return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
+
+
+def test_every_build_writes_the_report_and_lists_it(built):
+    page = built.folder / REPORT
+    assert page.is_file()
+    entry = [e for e in built.manifest["files"] if e["name"] == REPORT]
+    assert entry and entry[0]["bytes"] == page.stat().st_size
+
+
+def test_report_is_self_contained(built):
+    text = (built.folder / REPORT).read_text(encoding="utf-8")
+    assert "<script" not in text
+    assert not re.search(r'(src|href)="(?!data:)', text)  # nothing fetched from anywhere
+    images = re.findall(r'<img src="data:image/png;base64,([A-Za-z0-9+/=]+)"', text)
+    assert len(images) == 2  # plan view and 3D view
+    for data in images:
+        img = Image.open(io.BytesIO(base64.b64decode(data)))
+        assert img.format == "PNG" and img.size[0] >= 800
+
+
+def test_report_holds_the_figures(built):
+    text = (built.folder / REPORT).read_text(encoding="utf-8")
+    for heading in ("Design", "Derived geometry", "Mesh", "Physical groups", "Design numbers", "Cautions"):
+        assert f"<h2>{heading}</h2>" in text
+    for group in ("inlet", "outlet", "wall", "fluid"):
+        assert f"<td>{group}</td>" in text
+    assert "hydraulic diameter" in text and "Reynolds" in text
+    assert "fabricator" in text  # the mould / mask caution
+    # hydraulic diameter 4A/P = 2 w h / (w + h) = 2*150*60/210 um (Shah & London 1978, rectangle)
+    assert f"{2 * 150 * 60 / 210:.6g}" in text
+
+
+def test_quality_histograms_are_drawn_when_the_manifest_has_them(built):
+    manifest = dict(built.manifest)
+    manifest["quality"] = {
+        "aspect_ratio": {"min": 1.1, "max": 4.0, "histogram": {"edges": [1, 2, 3, 4], "counts": [50, 30, 5]}},
+        "min_dihedral_deg": {"edges": [0, 30, 60], "counts": [3, 90]},
+        "note": "not a metric",
+    }
+    text = report_html(loads_design(DESIGN), built.mesh, manifest, [])
+    assert len(re.findall(r"<img ", text)) == 4
+    assert "aspect_ratio" in text
+
+
+@needs_chromium
+def test_report_renders_in_headless_chromium(built, tmp_path):
+    page = tmp_path / "probe.html"
+    page.write_text((built.folder / REPORT).read_text(encoding="utf-8").replace("</body>", PROBE + "</body>"))
+    dom = _chromium("--virtual-time-budget=5000", "--dump-dom", page.as_uri())
+    assert dom.returncode == 0, dom.stderr[-2000:]
+    match = re.search(r'data-images="(\d+)/(\d+)"', dom.stdout)
+    assert match and match.group(1) == match.group(2) == "2", "every embedded image decodes"
+    shot = tmp_path / "shot.png"
+    run = _chromium("--window-size=1280,2400", f"--screenshot={shot}", (built.folder / REPORT).as_uri())
+    assert run.returncode == 0, run.stderr[-2000:]
+    console = [line for line in (dom.stderr + run.stderr).splitlines() if ":CONSOLE" in line]
+    assert not console, console
+    img = np.asarray(Image.open(shot).convert("RGB")).astype(int)
+    assert img.shape[:2] == (2400, 1280)
+    inked = np.any(np.abs(img - 255) > 30, axis=2)
+    assert inked.mean() > 0.02 and img.std() > 10
