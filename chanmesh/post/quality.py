@@ -18,7 +18,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
@@ -54,6 +54,7 @@ class Quality:
     wall_cell_mean: float
     wall_cell_max: float
     wall_source: str  # "wall" group, or "boundary" when the mesh has no wall group
+    histograms: dict = field(default_factory=dict, compare=False)  # name -> {"edges", "counts"}
 
     def as_dict(self) -> dict[str, float | int | str]:
         return asdict(self)
@@ -162,13 +163,18 @@ def _wall_keys(mesh: ChannelMesh, size: int) -> np.ndarray | None:
 def mesh_quality(mesh: ChannelMesh) -> Quality:
     """All quality figures of ``mesh`` (see the module docstring for the definitions)."""
     jac_min, jac_sum, aspect = np.inf, 0.0, 0.0
+    jac_counts = np.zeros(len(JACOBIAN_EDGES) - 1, np.int64)
+    ratios: list[np.ndarray] = []
     for b in mesh.volumes:
         for lo in range(0, len(b.cells), CHUNK):
             part = b.cells[lo : lo + CHUNK]
             sj = scaled_jacobian(mesh.points, b.type, part)
             jac_min = min(jac_min, float(sj.min()))
             jac_sum += float(sj.sum())
-            aspect = max(aspect, float(edge_ratio(mesh.points, b.type, part).max()))
+            jac_counts += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
+            er = edge_ratio(mesh.points, b.type, part)
+            aspect = max(aspect, float(er.max()))
+            ratios.append(er.astype(np.float32))
     centres = _centres(mesh)
     angle = 0.0
     heights: list[np.ndarray] = []
@@ -210,7 +216,21 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
         wall_cell_mean=float(h.mean()) if len(h) else math.nan,
         wall_cell_max=float(h.max()) if len(h) else math.nan,
         wall_source="wall" if has_wall else "boundary",
+        histograms=_histograms(jac_counts, np.concatenate(ratios) if ratios else np.zeros(0), h),
     )
+
+
+JACOBIAN_EDGES = np.linspace(-1.0, 1.0, 41)
+
+
+def _histograms(jac_counts: np.ndarray, ratios: np.ndarray, heights: np.ndarray) -> dict:
+    """Histograms for the build report: scaled Jacobian on fixed bins, the others on 30 bins."""
+    out = {"scaled_jacobian": {"edges": JACOBIAN_EDGES.tolist(), "counts": jac_counts.tolist()}}
+    for name, values in (("aspect_ratio", ratios), ("wall_cell_m", heights)):
+        if len(values):
+            counts, edges = np.histogram(values, 30)
+            out[name] = {"edges": edges.tolist(), "counts": counts.tolist()}
+    return out
 
 
 def _wall_heights(mesh: ChannelMesh, faces: _Faces, which: np.ndarray, cell_nodes: dict) -> np.ndarray:

@@ -154,21 +154,23 @@ def group_rows(manifest: dict[str, Any]) -> list[list[Any]]:
 
 
 def _quality_section(manifest: dict[str, Any]) -> str:
+    """Summary figures as a table and one histogram per entry of ``quality["histograms"]``."""
     quality = manifest.get("quality")
     if not isinstance(quality, dict) or "skipped" in quality or not quality:
         return '<p class="note">No quality figures in this build\'s manifest.</p>'
-    charts, summary = [], []
-    for name, entry in quality.items():
+    charts = []
+    for name, entry in (quality.get("histograms") or {}).items():
         hist = histogram_of(entry)
         if hist is not None:
             charts.append(_img(histogram_png(name, *hist), f"histogram of {name}"))
-        if isinstance(entry, dict):
-            nums = {k: v for k, v in entry.items() if isinstance(v, (int, float)) and not isinstance(v, bool)}
-            if nums:
-                summary.append([name, ", ".join(f"{k} {_num(v, 4)}" for k, v in nums.items())])
+    summary = [
+        [name.replace("_", " "), _num(v, 4)]
+        for name, v in quality.items()
+        if isinstance(v, (int, float)) and not isinstance(v, bool)
+    ]
     out = f'<div class="charts">{"".join(charts)}</div>' if charts else ""
     if summary:
-        out += _table(["figure", "summary"], summary)
+        out += _table(["figure", "value"], summary)
     return out or '<p class="note">The quality section holds no histogram or summary numbers.</p>'
 
 
