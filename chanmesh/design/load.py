@@ -167,7 +167,7 @@ MESH_KEYS: dict[str, Key] = {
     "along_aspect": Key(read_float, default=2.0),
     "max_cells": Key(read_int, default=5_000_000),
     "sections": Key(read_station_list, default=()),
-    "threads": Key(read_int, default=2),
+    "threads": Key(read_int, default=1),
 }
 
 FLOW_KEYS: dict[str, Key] = {

@@ -47,7 +47,8 @@ class Grading:
 
 def grading_of(design: Design, scale: float = 1.0) -> Grading:
     """Grading from ``mesh.cells_across`` with ``wall_ratio`` or ``first_cell``; ``scale``
-    refines it (sizes divided by ``scale``)."""
+    refines it (sizes divided by ``scale``, the growth ratio replaced by its scale-th root so
+    that a refined family keeps the same stretching per unit length)."""
     m = design.mesh
     w = design.section.width
     n = max(2, int(round(m.cells_across * scale)))
@@ -55,7 +56,7 @@ def grading_of(design: Design, scale: float = 1.0) -> Grading:
         h1 = m.first_cell / scale
         g = ratio_for_first_cell(w, n, min(h1, w / n))
     else:
-        g = m.wall_ratio
+        g = m.wall_ratio ** (1.0 / scale)
         h1 = first_cell(w, n, g)
     return Grading(h1, g, core_size(w, n, g))
 
