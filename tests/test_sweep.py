@@ -18,7 +18,7 @@ from chanmesh.errors import DesignError
 from chanmesh.manifest import read_manifest
 from chanmesh.safeio import STAGE_PREFIX
 from chanmesh.sweep.plan import Variation, apply, combine, parse_vary
-from chanmesh.sweep.run import SweepRequest, run_sweep, variant_id
+from chanmesh.sweep.run import SweepRequest, build_variant, run_sweep, variant_id
 from chanmesh.sweep.summary import read_summary
 from chanmesh.writers import WriteOptions
 
@@ -98,7 +98,11 @@ def test_sweep_killed_midway_then_resumed(tmp_path):
     before = _manifests(out)
     assert 1 <= len(before) < 6, f"kill came too late to test resuming: {len(before)} variants done"
 
-    result = run_sweep(data, assignments, out, request, workers=2)
+    # the rerun goes to an existing scheduler (the --scheduler path) of 2 one-thread worker processes
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
+        result = run_sweep(data, assignments, out, request, scheduler=cluster.scheduler_address)
     rows = {r["variant"]: r for r in result.rows}
     assert rows[1]["status"] == "infeasible" and "path.radius" in rows[1]["message"]
     assert rows[3]["status"] == "failed" and "OutputError" in rows[3]["message"] and doomed in rows[3]["message"]
@@ -117,3 +121,17 @@ def test_sweep_killed_midway_then_resumed(tmp_path):
     assert [s["variant"] for s in summary] == [str(i) for i in range(1, 9)]
     assert summary[1]["path.radius"] == "800" and int(summary[1]["volume_cells"]) > 0
     assert float(summary[1]["reynolds"]) > 0  # design numbers column filled from [flow]
+
+
+def test_variant_family_is_built_then_resumed(tmp_path):
+    data = parse_design_text(DESIGN.replace("cells_across = 4", "cells_across = 3"))
+    request = SweepRequest(formats=("msh",), family_levels=2, family_ratio=2.0)
+    first = build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)
+    assert first["status"] == "built" and [lv["level"] for lv in first["levels"]] == [1, 2]
+    assert (tmp_path / first["path"] / "family.json").is_file()
+    assert first["levels"][0]["cells"] > first["levels"][1]["cells"]
+    again = build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)
+    assert again["status"] == "resumed" and again["levels"] == first["levels"]
+    # a variant that breaks a design rule is recorded, not raised
+    bad = build_variant(2, data, {"path.angle": 400}, str(tmp_path), request)
+    assert bad["status"] == "infeasible" and bad["message"].startswith("path.angle")
