@@ -11,31 +11,17 @@ import pytest
 import pyvista as pv
 
 from chanmesh.cli import main
+from design_text import arc_text
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
 from chanmesh.family import FAMILY_FILE, FamilyPlan, build_family, family_is_current, plan_family
 from chanmesh.meshing.registry import MESHERS
 from chanmesh.post.gci_table import read_family
 
-ARC = """
-name = "fam-arc"
-unit = "um"
-[section]
-width = 200
-height = 50
-[path]
-kind = "arc"
-radius = 1000
-angle = 45
-[mesh]
-cells = "{cells}"
-cells_across = {across}
-{extra}
-"""
 
 
 def arc(cells: str = "tet", across: int = 6, extra: str = ""):
-    return loads_design(ARC.format(cells=cells, across=across, extra=extra))
+    return loads_design(arc_text("fam-arc", 45, across, cells, extra))
 
 
 def test_plan_scales_coarsest_is_the_design():
@@ -101,7 +87,7 @@ def test_identical_levels_and_small_ratio_are_warned(tmp_path):
 
 def test_cli_family_prints_levels(tmp_path, capsys):
     design = tmp_path / "d.toml"
-    design.write_text(ARC.format(cells="tet", across=3, extra=""))
+    design.write_text(arc_text("fam-arc", 45, 3))
     assert main(["family", str(design), "--levels", "2", "--ratio", "2", "--out", str(tmp_path / "o"), "--format", "msh"]) == 0
     assert "level-1" in capsys.readouterr().out
     assert main(["family", str(design), "--levels", "9", "--out", str(tmp_path / "o")]) == 2

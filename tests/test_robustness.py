@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 import chanmesh.writers.vtu as vtu_writer
 from chanmesh.build import build
 from chanmesh.cli import main
+from design_text import arc_text
 from chanmesh.design.load import TOP_KEYS, design_from_dict
 from chanmesh.errors import DesignError, OutputError
 from chanmesh.manifest import file_sha256, read_manifest
@@ -113,18 +114,7 @@ def test_generated_designs_build_or_are_refused(kind, tmp_path_factory):
 
 # --- files ------------------------------------------------------------------------------------
 
-GOOD = """name = "files"
-unit = "um"
-[section]
-width = 200
-height = 50
-[path]
-kind = "arc"
-radius = 1000
-angle = 30
-[mesh]
-cells_across = 3
-"""
+GOOD = arc_text("files", 30, 3)
 
 
 @pytest.mark.parametrize("text, expected", [

@@ -15,6 +15,7 @@ import pytest
 
 from chanmesh.design.load import design_from_dict, parse_design_text
 from chanmesh.errors import DesignError
+from design_text import arc_text
 from chanmesh.manifest import read_manifest
 from chanmesh.safeio import STAGE_PREFIX
 from chanmesh.sweep.plan import Variation, apply, combine, parse_vary
@@ -24,21 +25,7 @@ from chanmesh.writers import WriteOptions
 
 ROOT = Path(__file__).resolve().parents[1]
 
-DESIGN = """
-name = "sweep-arc"
-unit = "um"
-[section]
-width = 200
-height = 50
-[path]
-kind = "arc"
-radius = 1000
-angle = 60
-[mesh]
-cells_across = 4
-[flow]
-rate = "0.1mL/min"
-"""
+DESIGN = arc_text("sweep-arc", 60, 4, extra='[flow]\nrate = "0.1mL/min"')
 
 
 def test_range_and_list_values():
@@ -124,7 +111,7 @@ def test_sweep_killed_midway_then_resumed(tmp_path):
 
 
 def test_variant_family_is_built_then_resumed(tmp_path):
-    data = parse_design_text(DESIGN.replace("cells_across = 4", "cells_across = 3"))
+    data = parse_design_text(arc_text("sweep-arc", 60, 3))
     request = SweepRequest(formats=("msh",), family_levels=2, family_ratio=2.0)
     first = build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)
     assert first["status"] == "built" and [lv["level"] for lv in first["levels"]] == [1, 2]
