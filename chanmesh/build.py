@@ -64,6 +64,13 @@ def check_estimate(design: Design, scale: float = 1.0) -> int:
     return estimate
 
 
+def build_request(formats: tuple[str, ...], options: WriteOptions, scale: float = 1.0) -> dict[str, Any]:
+    """What was asked of a build besides the design (hashed into ``design_hash``): formats
+    (checked, duplicates dropped), MSH options and the refinement scale."""
+    chosen = [format_named(f).name for f in dict.fromkeys(formats)]
+    return {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+
+
 def build(
     design: Design,
     out: Path,
@@ -76,7 +83,7 @@ def build(
     clock = clock or StageClock(quiet=True)
     chosen = [format_named(f) for f in dict.fromkeys(formats)]
     estimate = check_estimate(design, scale)
-    request = {"formats": [f.name for f in chosen], "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    request = build_request(formats, options, scale)
     with StagedOutput(Path(out)) as staged:
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
         counts = check_boundary_tagging(mesh)

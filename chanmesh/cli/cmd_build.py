@@ -27,6 +27,11 @@ def formats_arg(text: str) -> tuple[str, ...]:
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("design", type=Path, help="design file (TOML)")
     p.add_argument("--out", type=Path, default=None, help="output folder (default: out/<name>)")
+    add_format_arguments(p)
+
+
+def add_format_arguments(p: argparse.ArgumentParser) -> None:
+    """--format, --msh-version, --binary, --quiet: shared by build, family and sweep."""
     p.add_argument(
         "--format",
         type=formats_arg,
@@ -59,11 +64,15 @@ def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Desi
     return design
 
 
+def write_options(args: argparse.Namespace) -> WriteOptions:
+    return WriteOptions(args.msh_version, args.binary)
+
+
 def run(args: argparse.Namespace) -> int:
     design = with_fabrication_overrides(load_design(args.design), args)
     out = args.out or Path("out") / design.name
     clock = StageClock(quiet=args.quiet)
-    result = build(design, out, formats=args.format, options=WriteOptions(args.msh_version, args.binary), clock=clock)
+    result = build(design, out, formats=args.format, options=write_options(args), clock=clock)
     if not args.quiet:
         m = result.manifest
         counts = ", ".join(f"{n:,} {t}" for t, n in m["cells"].items())

@@ -168,7 +168,7 @@ MESH_KEYS: dict[str, Key] = {
     "along_aspect": Key(read_float, default=2.0),
     "max_cells": Key(read_int, default=5_000_000),
     "sections": Key(read_station_list, default=()),
-    "threads": Key(read_int, default=2),
+    "threads": Key(read_int, default=1),
 }
 
 FLOW_KEYS: dict[str, Key] = {
@@ -285,17 +285,16 @@ def _section(sec: dict[str, Any]) -> Section:
     raise DesignError("section.shape", shape, "must be 'rectangle' or 'trapezoid'")
 
 
-def loads_design(text: str, source: str = "<design>") -> Design:
-    """Parse design text (TOML)."""
+def parse_design_text(text: str, source: str = "<design>") -> dict[str, Any]:
+    """Parse design text (TOML) into plain data, unchecked (a sweep varies this dict)."""
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError(source, "(not TOML)", f"is not a valid TOML design file: {exc}") from None
-    return design_from_dict(data)
 
 
-def load_design(path: str | FsPath) -> Design:
-    """Read a design file from disk."""
+def read_design_data(path: str | FsPath) -> dict[str, Any]:
+    """Read a design file from disk into plain data, unchecked."""
     p = FsPath(path)
     try:
         raw = p.read_bytes()
@@ -307,4 +306,14 @@ def load_design(path: str | FsPath) -> Design:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise DesignError("design file", str(p), "is not a UTF-8 text file (expected a TOML design)") from None
-    return loads_design(text, source=str(p))
+    return parse_design_text(text, source=str(p))
+
+
+def loads_design(text: str, source: str = "<design>") -> Design:
+    """Parse design text (TOML)."""
+    return design_from_dict(parse_design_text(text, source))
+
+
+def load_design(path: str | FsPath) -> Design:
+    """Read a design file from disk."""
+    return design_from_dict(read_design_data(path))

@@ -127,7 +127,7 @@ class MeshSpec:
     along_aspect: float = 2.0
     max_cells: int = 5_000_000
     sections: tuple[Any, ...] = ()
-    threads: int = 2
+    threads: int = 1  # gmsh threads; 1 gives byte-identical meshes run to run (docs/robustness.md)
 
 
 @dataclass(frozen=True)
