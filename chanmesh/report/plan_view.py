@@ -133,7 +133,9 @@ def _port_arrow(ax, line, s: float, u: float, length: float, colour: str, label:
     ax.add_patch(FancyArrow(*tail, *(t * length), width=0.09 * length, head_width=0.3 * length,
                             head_length=head, length_includes_head=True, color=colour, linewidth=0))
     text_at = tail - t * 0.12 * length if into else tail + t * 1.12 * length
-    ha = "right" if (t[0] > 0.3) == into else ("left" if abs(t[0]) > 0.3 else "center")
+    # the label sits beyond the arrow, aligned away from it so fanned outlet labels stay apart
+    lean = t[0] if not into else -t[0]
+    ha = "left" if lean > 0.1 else ("right" if lean < -0.1 else "center")
     va = "center" if abs(t[0]) > 0.3 else (("top" if t[1] > 0 else "bottom") if into else ("bottom" if t[1] > 0 else "top"))
     ax.text(*text_at, label, color=INLET if into else INK, fontsize=11, ha=ha, va=va, weight="bold")
 
