@@ -22,26 +22,25 @@ import time
 from dataclasses import replace
 from pathlib import Path
 
-SPIRAL = """
-name = "bench-spiral"
-unit = "um"
-[section]
-shape = "rectangle"
-width = 300
-height = 60
-[path]
+from _designs import bench_design_text
+
+SPIRAL = bench_design_text(
+    "bench-spiral",
+    """
 kind = "spiral"
 inner_radius = 1500
 pitch = 450
 turns = 4
 inlet_length = 500
 outlet_length = 500
-[mesh]
+""",
+    """
 cells = "hex"
 cells_across = 16
 first_cell = 2
 max_cells = 50000000
-"""
+""",
+)
 
 
 REPEATS = 3

@@ -18,23 +18,22 @@ import time
 
 import numpy as np
 
-ARC = """
-name = "bench-arc"
-unit = "um"
-[section]
-shape = "rectangle"
-width = 300
-height = 60
-[path]
+from _designs import bench_design_text
+
+ARC = bench_design_text(
+    "bench-arc",
+    """
 kind = "arc"
 radius = 2000
 angle = 180
-[mesh]
+""",
+    """
 cells = "hex"
 cells_across = 40
 wall_ratio = 1.1
 max_cells = 50000000
-"""
+""",
+)
 
 
 def numpy_sweep(design, scale):  # type: ignore[no-untyped-def]
