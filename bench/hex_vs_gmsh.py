@@ -18,23 +18,22 @@ import time
 
 import numpy as np
 
-ARC = """
-name = "bench-arc"
-unit = "um"
-[section]
-shape = "rectangle"
-width = 300
-height = 60
-[path]
+from _designs import bench_design_text
+
+ARC = bench_design_text(
+    "bench-arc",
+    """
 kind = "arc"
 radius = 2000
 angle = 180
-[mesh]
+""",
+    """
 cells = "hex"
 cells_across = 40
 wall_ratio = 1.1
 max_cells = 50000000
-"""
+""",
+)
 
 
 def numpy_sweep(design, scale):  # type: ignore[no-untyped-def]
@@ -45,13 +44,31 @@ def numpy_sweep(design, scale):  # type: ignore[no-untyped-def]
     return time.perf_counter() - t0, mesh
 
 
+def _arc_mm(design) -> tuple[float, float, float]:  # type: ignore[no-untyped-def]
+    from chanmesh.gmshlayer.session import MODEL_UNIT
+
+    return design.section.width / MODEL_UNIT, design.section.height / MODEL_UNIT, design.path.radius / MODEL_UNIT
+
+
+def _generate_and_read() -> int:
+    """Mesh the model and read nodes and hexahedra back into numpy, as chanmesh would."""
+    import gmsh
+
+    gmsh.model.mesh.generate(3)
+    tags, coords, _ = gmsh.model.mesh.getNodes()
+    types, _, conn = gmsh.model.mesh.getElements(3)
+    cells = np.concatenate([c for t, c in zip(types, conn) if t == 5]).reshape(-1, 8)
+    points = coords.reshape(-1, 3)[np.argsort(tags)]
+    return len(np.searchsorted(np.sort(tags), cells)) if len(points) else 0
+
+
 def gmsh_revolve(design, counts: tuple[int, int, int], ratio: float) -> tuple[float, int]:  # type: ignore[no-untyped-def]
     import gmsh
 
-    from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
+    from chanmesh.gmshlayer.session import gmsh_session
 
     nk, ni, nj = counts
-    w, h, R = design.section.width / MODEL_UNIT, design.section.height / MODEL_UNIT, design.path.radius / MODEL_UNIT
+    w, h, R = _arc_mm(design)
     with gmsh_session(threads=2):
         t0 = time.perf_counter()
         geo = gmsh.model.geo
@@ -68,23 +85,18 @@ def gmsh_revolve(design, counts: tuple[int, int, int], ratio: float) -> tuple[fl
         geo.mesh.setRecombine(2, surf)
         geo.revolve([(2, surf)], 0, 0, 0, 0, 0, 1, math.radians(design.path.angle), numElements=[nk], recombine=True)
         geo.synchronize()
-        gmsh.model.mesh.generate(3)
-        tags, coords, _ = gmsh.model.mesh.getNodes()
-        types, _, conn = gmsh.model.mesh.getElements(3)
-        cells = np.concatenate([c for t, c in zip(types, conn) if t == 5]).reshape(-1, 8)
-        index = np.searchsorted(np.sort(tags), cells)
-        elapsed = time.perf_counter() - t0
-        return elapsed, len(index)
+        count = _generate_and_read()
+        return time.perf_counter() - t0, count
 
 
 def gmsh_transfinite(design, counts: tuple[int, int, int], ratio: float) -> tuple[float, int]:  # type: ignore[no-untyped-def]
     """The same arc as an OpenCASCADE solid meshed as a transfinite volume."""
     import gmsh
 
-    from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
+    from chanmesh.gmshlayer.session import gmsh_session
 
     nk, ni, nj = counts
-    w, h, R = design.section.width / MODEL_UNIT, design.section.height / MODEL_UNIT, design.path.radius / MODEL_UNIT
+    w, h, R = _arc_mm(design)
     with gmsh_session(threads=2):
         t0 = time.perf_counter()
         occ = gmsh.model.occ
@@ -107,12 +119,8 @@ def gmsh_transfinite(design, counts: tuple[int, int, int], ratio: float) -> tupl
             gmsh.model.mesh.setRecombine(2, sf)
         for _, v in gmsh.model.getEntities(3):
             gmsh.model.mesh.setTransfiniteVolume(v)
-        gmsh.model.mesh.generate(3)
-        tags, coords, _ = gmsh.model.mesh.getNodes()
-        types, _, conn = gmsh.model.mesh.getElements(3)
-        cells = np.concatenate([c for t, c in zip(types, conn) if t == 5]).reshape(-1, 8)
-        index = np.searchsorted(np.sort(tags), cells)
-        return time.perf_counter() - t0, len(index)
+        count = _generate_and_read()
+        return time.perf_counter() - t0, count
 
 
 def main() -> None:

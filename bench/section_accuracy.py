@@ -22,21 +22,20 @@ import math
 
 import numpy as np
 
-DESIGN = """
-name = "bench-section"
-unit = "um"
-[section]
-shape = "rectangle"
-width = 300
-height = 60
-[path]
+from _designs import bench_design_text
+
+DESIGN = bench_design_text(
+    "bench-section",
+    """
 kind = "arc"
 radius = 2000
 angle = 5
-[mesh]
+""",
+    """
 cells = "hex"
 cells_along = 1
-"""
+""",
+)
 # The hexahedral section: few cells across (graded hard toward the side walls, where the
 # profile bends) and more over the short height (where the profile is a parabola).
 HEX_MESH = "cells_across = 8\ncells_high = 10\nfirst_cell = 3\n"

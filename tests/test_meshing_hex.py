@@ -162,3 +162,19 @@ def test_too_many_cells_is_a_design_error():
     design = hex_design("spiral", mesh="max_cells = 1000")
     with pytest.raises(DesignError, match="mesh.max_cells"):
         mesh_hex(design)
+
+
+def test_chamber_end_walls_get_the_first_cell():
+    # along the flow, the cells touching each chamber end wall are first_cell long (the request)
+    from chanmesh.meshing.hexplan import plan_hex
+
+    design = hex_design("chambers", mesh="first_cell = 2")
+    plan = plan_hex(design)
+    path = design.path
+    walls = [path.inlet_length + path.throat_length + k * (path.chamber_length + path.throat_length) for k in range(path.count)]
+    walls += [w + path.chamber_length for w in walls]
+    for x in walls:
+        k = int(np.argmin(np.abs(plan.s - x)))
+        assert plan.s[k] == pytest.approx(x, abs=1e-12)
+        assert plan.s[k + 1] - plan.s[k] == pytest.approx(2e-6, rel=0.01)
+        assert plan.s[k] - plan.s[k - 1] == pytest.approx(2e-6, rel=0.01)

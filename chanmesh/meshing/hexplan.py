@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.design.model import ChambersPath, Design
+from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.gmshlayer.background import Grading, grading_of
@@ -121,8 +122,6 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
     outlet_nodes: tuple[int, ...] = (0, n_across)
     if len(split) > 1:
         if n_across < len(split):
-            from chanmesh.errors import DesignError
-
             raise DesignError(
                 "mesh.cells_across", m.cells_across,
                 f"the hexahedral mesher needs at least one cell per outlet ({len(split)} outlets)",

@@ -24,6 +24,7 @@ import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.verify import FACES
+from chanmesh.post.facepairs import pair_faces
 
 CHUNK = 400_000  # cells per batch: bounds the temporary arrays at a few hundred MB
 
@@ -60,65 +61,87 @@ class Quality:
         return asdict(self)
 
 
-def _normalised_det(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
-    det = np.einsum("ij,ij->i", np.cross(a, b), c)
-    norm = np.linalg.norm(a, axis=1) * np.linalg.norm(b, axis=1) * np.linalg.norm(c, axis=1)
-    return np.divide(det, norm, out=np.zeros_like(det), where=norm > 0)
+class _CellGeometry:
+    """Node coordinates of a batch of cells as contiguous component rows, (3, k, m), with edge
+    vectors and lengths computed once and shared by the Jacobians and the edge ratio."""
+
+    def __init__(self, points: np.ndarray, cells: np.ndarray) -> None:
+        self.p = np.stack([points[:, d][cells.T] for d in range(3)])  # (3, k, m)
+        self._edges: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]] = {}
+
+    def edge(self, i: int, j: int) -> tuple[np.ndarray, np.ndarray]:
+        """Vector from node i to node j, (3, m), and its length, (m,)."""
+        key = (min(i, j), max(i, j))
+        if key not in self._edges:
+            v = self.p[:, key[1]] - self.p[:, key[0]]
+            self._edges[key] = (v, np.sqrt(v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
+        v, length = self._edges[key]
+        return (v if i < j else -v), length
 
 
-def _corner_minimum(p: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """min over corners of the normalised corner Jacobian; p is (m, k, 3)."""
-    out = np.full(len(p), np.inf)
+def _det(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
+    """det[a, b, c] = (a x b) . c for (3, m) component rows."""
+    return (a[1] * b[2] - a[2] * b[1]) * c[0] + (a[2] * b[0] - a[0] * b[2]) * c[1] + (a[0] * b[1] - a[1] * b[0]) * c[2]
+
+
+def _ratio(num: np.ndarray, den: np.ndarray) -> np.ndarray:
+    return np.divide(num, den, out=np.zeros_like(num), where=den > 0)
+
+
+def _corner_minimum(g: _CellGeometry, table: np.ndarray) -> np.ndarray:
+    """min over corners of the normalised corner Jacobian det[e1, e2, e3] / (|e1||e2||e3|)."""
+    out = None
     for c, a, b, d in table:
-        out = np.minimum(out, _normalised_det(p[:, a] - p[:, c], p[:, b] - p[:, c], p[:, d] - p[:, c]))
+        (ea, la), (eb, lb), (ed, ld) = g.edge(c, a), g.edge(c, b), g.edge(c, d)
+        value = _ratio(_det(ea, eb, ed), la * lb * ld)
+        out = value if out is None else np.minimum(out, value)
     return out
 
 
-def scaled_jacobian(points: np.ndarray, cell_type: str, cells: np.ndarray) -> np.ndarray:
-    """Scaled Jacobian of each cell (Verdict definitions, see the module docstring)."""
-    p = points[cells]
+def _length(v: np.ndarray) -> np.ndarray:
+    return np.sqrt(v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
+
+
+def _scaled_jacobian(g: _CellGeometry, cell_type: str) -> np.ndarray:
+    p = g.p
     if cell_type == "hexahedron":
         # principal axes at the centre (Verdict's calc_hex_efg 1, 2, 3)
         x1 = (p[:, 1] - p[:, 0]) + (p[:, 2] - p[:, 3]) + (p[:, 5] - p[:, 4]) + (p[:, 6] - p[:, 7])
         x2 = (p[:, 3] - p[:, 0]) + (p[:, 2] - p[:, 1]) + (p[:, 7] - p[:, 4]) + (p[:, 6] - p[:, 5])
         x3 = (p[:, 4] - p[:, 0]) + (p[:, 5] - p[:, 1]) + (p[:, 6] - p[:, 2]) + (p[:, 7] - p[:, 3])
-        return np.minimum(_corner_minimum(p, _HEX_CORNERS), _normalised_det(x1, x2, x3))
+        centre = _ratio(_det(x1, x2, x3), _length(x1) * _length(x2) * _length(x3))
+        return np.minimum(_corner_minimum(g, _HEX_CORNERS), centre)
     if cell_type == "wedge":
-        return np.minimum(_corner_minimum(p, _WEDGE_CORNERS) * 2.0 / math.sqrt(3.0), 1.0)
+        return np.minimum(_corner_minimum(g, _WEDGE_CORNERS) * 2.0 / math.sqrt(3.0), 1.0)
     if cell_type == "tetra":
-        e0, e2, e3 = p[:, 1] - p[:, 0], p[:, 0] - p[:, 2], p[:, 3] - p[:, 0]
-        e1, e4, e5 = p[:, 2] - p[:, 1], p[:, 3] - p[:, 1], p[:, 3] - p[:, 2]
-        jac = np.einsum("ij,ij->i", e3, np.cross(e2, e0))
-        sq = [np.einsum("ij,ij->i", e, e) for e in (e0, e1, e2, e3, e4, e5)]
-        prod = np.max([sq[0] * sq[2] * sq[3], sq[0] * sq[1] * sq[4], sq[1] * sq[2] * sq[5], sq[3] * sq[4] * sq[5]], axis=0)
-        root = np.sqrt(prod)
-        return np.divide(jac * math.sqrt(2.0), root, out=np.zeros_like(jac), where=root > 0)
+        (e0, l0), (e2, l2), (e3, l3) = g.edge(0, 1), g.edge(2, 0), g.edge(0, 3)
+        l1, l4, l5 = g.edge(1, 2)[1], g.edge(1, 3)[1], g.edge(2, 3)[1]
+        jac = _det(e2, e0, e3)
+        sq = [x * x for x in (l0, l1, l2, l3, l4, l5)]
+        prod = np.maximum.reduce([sq[0] * sq[2] * sq[3], sq[0] * sq[1] * sq[4], sq[1] * sq[2] * sq[5], sq[3] * sq[4] * sq[5]])
+        return _ratio(jac * math.sqrt(2.0), np.sqrt(prod))
     raise ValueError(f"cell type '{cell_type}', but tetra, hexahedron or wedge is expected")
+
+
+def _edge_ratio(g: _CellGeometry, cell_type: str) -> np.ndarray:
+    lengths = [g.edge(i, j)[1] for i, j in _EDGES[cell_type]]
+    return np.maximum.reduce(lengths) / np.maximum(np.minimum.reduce(lengths), np.finfo(float).tiny)
+
+
+def scaled_jacobian(points: np.ndarray, cell_type: str, cells: np.ndarray) -> np.ndarray:
+    """Scaled Jacobian of each cell (Verdict definitions, see the module docstring)."""
+    return _scaled_jacobian(_CellGeometry(points, cells), cell_type)
 
 
 def edge_ratio(points: np.ndarray, cell_type: str, cells: np.ndarray) -> np.ndarray:
     """Longest over shortest edge of each cell."""
-    pairs = np.array(_EDGES[cell_type])
-    d = points[cells[:, pairs[:, 1]]] - points[cells[:, pairs[:, 0]]]
-    length = np.linalg.norm(d, axis=2)
-    return length.max(axis=1) / np.maximum(length.min(axis=1), np.finfo(float).tiny)
-
-
-def _face_keys(faces: np.ndarray, n_points: int) -> np.ndarray:
-    """One sortable key per face from its three smallest node indices (unique for a
-    conforming mesh): int64 when it fits, else a structured row."""
-    s = np.sort(faces, axis=1)[:, :3]
-    if n_points ** 3 < 2**62:
-        n = np.int64(n_points)
-        return (s[:, 0] * n + s[:, 1]) * n + s[:, 2]
-    return np.ascontiguousarray(s).view([("a", np.int64), ("b", np.int64), ("c", np.int64)]).ravel()
+    return _edge_ratio(_CellGeometry(points, cells), cell_type)
 
 
 @dataclass(frozen=True)
 class _Faces:
     nodes: np.ndarray  # (f, k) outward node order
     owner: np.ndarray  # (f,) global cell index
-    keys: np.ndarray  # (f,)
 
 
 def _faces_by_size(mesh: ChannelMesh) -> dict[int, _Faces]:
@@ -136,7 +159,7 @@ def _faces_by_size(mesh: ChannelMesh) -> dict[int, _Faces]:
     for size, parts in out.items():
         if parts:
             nodes = np.concatenate([f for f, _ in parts])
-            res[size] = _Faces(nodes, np.concatenate([o for _, o in parts]), _face_keys(nodes, len(mesh.points)))
+            res[size] = _Faces(nodes, np.concatenate([o for _, o in parts]))
     return res
 
 
@@ -150,14 +173,13 @@ def _centres(mesh: ChannelMesh) -> np.ndarray:
     return np.concatenate([mesh.points[b.cells].mean(axis=1) for b in mesh.volumes])
 
 
-def _wall_keys(mesh: ChannelMesh, size: int) -> np.ndarray | None:
-    names = {g.name for g in mesh.groups}
-    if "wall" not in names:
+def _wall_facets(mesh: ChannelMesh, size: int) -> np.ndarray | None:
+    """Facets of the ``wall`` group with ``size`` nodes, or None when the mesh has no wall group."""
+    if not any(g.name == "wall" for g in mesh.groups):
         return None
     ftype = "triangle" if size == 3 else "quad"
     blocks = [b.cells for b in mesh.facets_of("wall") if b.type == ftype]
-    cells = np.concatenate(blocks) if blocks else np.zeros((0, size), np.int64)
-    return _face_keys(cells, len(mesh.points))
+    return np.concatenate(blocks) if blocks else np.zeros((0, size), np.int64)
 
 
 def mesh_quality(mesh: ChannelMesh) -> Quality:
@@ -167,12 +189,12 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     ratios: list[np.ndarray] = []
     for b in mesh.volumes:
         for lo in range(0, len(b.cells), CHUNK):
-            part = b.cells[lo : lo + CHUNK]
-            sj = scaled_jacobian(mesh.points, b.type, part)
+            geometry = _CellGeometry(mesh.points, b.cells[lo : lo + CHUNK])
+            sj = _scaled_jacobian(geometry, b.type)
             jac_min = min(jac_min, float(sj.min()))
             jac_sum += float(sj.sum())
             jac_counts += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
-            er = edge_ratio(mesh.points, b.type, part)
+            er = _edge_ratio(geometry, b.type)
             aspect = max(aspect, float(er.max()))
             ratios.append(er.astype(np.float32))
     centres = _centres(mesh)
@@ -185,10 +207,9 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
         cell_nodes[(start, start + len(b.cells))] = b.cells
         start += len(b.cells)
     for size, faces in _faces_by_size(mesh).items():
-        order = np.argsort(faces.keys, kind="stable")
-        k = faces.keys[order]
-        same = k[1:] == k[:-1]
-        first, second = order[:-1][same], order[1:][same]
+        partner = pair_faces(faces.nodes)
+        first = np.flatnonzero(partner > np.arange(len(partner)))
+        second = partner[first]
         if len(first):
             normal = _area_vectors(mesh.points, faces.nodes[first])
             join = centres[faces.owner[second]] - centres[faces.owner[first]]
@@ -196,13 +217,11 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
                 np.linalg.norm(normal, axis=1) * np.linalg.norm(join, axis=1)
             )
             angle = max(angle, float(np.degrees(np.arccos(np.clip(cos.min(), 0.0, 1.0)))))
-        lonely = np.ones(len(k), bool)
-        lonely[1:][same] = False
-        lonely[:-1][same] = False
-        boundary = order[lonely]
-        wall = _wall_keys(mesh, size)
-        if wall is not None:
-            boundary = boundary[np.isin(faces.keys[boundary], wall)]
+        boundary = np.flatnonzero(partner < 0)
+        wall = _wall_facets(mesh, size)
+        if wall is not None:  # boundary faces that pair with a wall facet
+            with_wall = pair_faces(np.concatenate([faces.nodes[boundary], wall]))[: len(boundary)]
+            boundary = boundary[with_wall >= 0]
         heights.append(_wall_heights(mesh, faces, boundary, cell_nodes))
     h = np.concatenate(heights) if heights else np.zeros(0)
     n = mesh.n_volume_cells
