@@ -1,23 +1,16 @@
-"""Write a ChannelMesh with meshio directly, for tests that need a file before the project's
-writers are merged (the lead switches these to chanmesh's writers)."""
+"""Write a ChannelMesh through chanmesh's own writers, for tests that read files back."""
 
 from __future__ import annotations
 
 from pathlib import Path
 
-import meshio
-import numpy as np
-
 from chanmesh.meshing.model import ChannelMesh
+from chanmesh.writers import FORMATS, WriteOptions
 
 
-def write_with_meshio(mesh: ChannelMesh, path: Path) -> Path:
-    blocks = mesh.volumes + mesh.facets
-    cells = [(b.type, b.cells) for b in blocks]
-    if path.suffix == ".msh":
-        data = {"gmsh:physical": [b.tags for b in blocks], "gmsh:geometrical": [b.tags for b in blocks]}
-        fields = {g.name: np.array([g.tag, g.dim]) for g in mesh.groups}
-        meshio.Mesh(mesh.points, cells, cell_data=data, field_data=fields).write(path, file_format="gmsh22", binary=True)
-    else:
-        meshio.Mesh(mesh.points, cells, cell_data={"chanmesh:group": [b.tags for b in blocks]}).write(path)
-    return path
+def write_mesh_file(mesh: ChannelMesh, path: Path) -> Path:
+    """Write ``mesh`` as ``path`` (format from the suffix: .msh as MSH 2.2, .vtu, .xdmf)."""
+    fmt = FORMATS[path.suffix.lstrip(".")]
+    options = WriteOptions(msh_version="2.2") if path.suffix == ".msh" else WriteOptions()
+    written = fmt.write(mesh, path.parent, path.stem, options)
+    return written[0]

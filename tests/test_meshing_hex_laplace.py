@@ -14,12 +14,11 @@ import meshio
 import numpy as np
 import pytest
 from _hex_designs import hex_design
-from _hex_files import write_with_meshio
+from _hex_files import write_mesh_file
+from _laplace import solve_potential
 
 skfem = pytest.importorskip("skfem")
-from skfem import Basis, ElementHex1, asm, condense, solve  # noqa: E402
 from skfem.io.meshio import from_meshio  # noqa: E402
-from skfem.models.poisson import laplace  # noqa: E402
 
 from chanmesh.meshing.hex import mesh_hex  # noqa: E402
 
@@ -27,31 +26,19 @@ from chanmesh.meshing.hex import mesh_hex  # noqa: E402
 def _read_back(mesh, path):
     """Read with meshio and rebuild named cell sets from the group tags (XDMF/VTU keep tags,
     not names), then hand over to scikit-fem."""
-    m = meshio.read(write_with_meshio(mesh, path))
-    key = "gmsh:physical" if "gmsh:physical" in m.cell_data else "chanmesh:group"
+    m = meshio.read(write_mesh_file(mesh, path))
+    key = "gmsh:physical" if "gmsh:physical" in m.cell_data else "group"
     m.cell_sets = {
         g.name: [np.flatnonzero(np.asarray(t) == g.tag) for t in m.cell_data[key]] for g in mesh.groups
     }
     return from_meshio(m, ignore_orientation=True)
 
 
-def _solve(fem_mesh, outlets):
-    basis = Basis(fem_mesh, ElementHex1())
-    K = asm(laplace, basis)
-    inlet = basis.get_dofs("inlet").all()
-    outlet = np.unique(np.concatenate([basis.get_dofs(n).all() for n in outlets]))  # shared edge nodes once
-    phi = np.zeros(basis.N)
-    phi[inlet] = 1.0
-    phi = solve(*condense(K, x=phi, D=np.concatenate([inlet, outlet])))
-    residual = K @ phi  # the flux leaving through each Dirichlet node
-    return float(residual[inlet].sum()), float(residual[outlet].sum())
-
-
 @pytest.mark.parametrize("suffix", [".vtu", ".msh"])
 def test_annular_sector_conductance_and_flux_balance(tmp_path, suffix):
     design = hex_design("arc", mesh="cells_across = 8\ncells_high = 3\ncells_along = 24")
     mesh = mesh_hex(design)
-    q_in, q_out = _solve(_read_back(mesh, tmp_path / f"arc{suffix}"), ["outlet"])
+    q_in, q_out = solve_potential(_read_back(mesh, tmp_path / f"arc{suffix}"), ["outlet"])
     # flux balance: what enters leaves (to solver round-off)
     assert q_in + q_out == pytest.approx(0.0, abs=1e-10 * abs(q_in))
     w, h, r = design.section.width, design.section.height, design.path.radius
@@ -62,6 +49,6 @@ def test_annular_sector_conductance_and_flux_balance(tmp_path, suffix):
 def test_split_outlet_flux_balance(tmp_path):
     design = hex_design("serpentine", outlets="split = [0.3, 0.7]")
     mesh = mesh_hex(design)
-    q_in, q_out = _solve(_read_back(mesh, tmp_path / "serp.msh"), ["outlet_1", "outlet_2"])
+    q_in, q_out = solve_potential(_read_back(mesh, tmp_path / "serp.msh"), ["outlet_1", "outlet_2"])
     assert q_in > 0
     assert q_in + q_out == pytest.approx(0.0, abs=1e-10 * q_in)

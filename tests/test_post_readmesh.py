@@ -6,7 +6,7 @@ import json
 
 import pytest
 from _hex_designs import hex_design
-from _hex_files import write_with_meshio
+from _hex_files import write_mesh_file
 
 from chanmesh.cli import main
 from chanmesh.errors import MeshFileError
@@ -22,20 +22,19 @@ def mesh():
 
 @pytest.mark.parametrize("suffix", [".msh", ".vtu", ".xdmf"])
 def test_round_trip_keeps_the_figures(mesh, tmp_path, suffix):
-    back = read_mesh_file(write_with_meshio(mesh, tmp_path / f"m{suffix}"))
+    back = read_mesh_file(write_mesh_file(mesh, tmp_path / f"m{suffix}"))
     assert back.cell_counts() == mesh.cell_counts()
     a, b = mesh_quality(mesh), mesh_quality(back)
     assert b.scaled_jacobian_min == pytest.approx(a.scaled_jacobian_min, rel=1e-12)
     assert b.non_orthogonality_max == pytest.approx(a.non_orthogonality_max, abs=1e-9)
-    if suffix == ".msh":  # MSH keeps the group names, so the wall faces are known
-        assert [g.name for g in back.groups] == [g.name for g in mesh.groups]
-        assert b.wall_cell_min == pytest.approx(a.wall_cell_min, rel=1e-12)
-    else:
-        assert b.wall_source == "boundary"
+    # every chanmesh format carries the group names (MSH natively, VTU in its field data,
+    # XDMF in the _groups.json beside the _facets.xdmf), so the wall faces are known
+    assert [g.name for g in back.groups] == [g.name for g in mesh.groups]
+    assert b.wall_cell_min == pytest.approx(a.wall_cell_min, rel=1e-12)
 
 
 def test_quality_command_prints_figures(mesh, tmp_path, capsys):
-    path = write_with_meshio(mesh, tmp_path / "m.msh")
+    path = write_mesh_file(mesh, tmp_path / "m.msh")
     assert main(["quality", str(path), "--json"]) == 0
     shown = json.loads(capsys.readouterr().out)
     assert shown["cells"] == mesh.n_volume_cells

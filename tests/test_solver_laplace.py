@@ -1,8 +1,7 @@
 """A general finite-element library (scikit-fem) reads the written XDMF and solves on it.
 
-Laplace's equation with potential 1 on ``inlet``, 0 on ``outlet`` and insulated walls: the
-inlet and outlet fluxes balance, and for an annular sector the conductance equals the exact
-h ln(R_outer / R_inner) / theta (separable solution phi = 1 - angle / theta).
+Laplace's equation (``tests/_laplace.py``): the inlet and outlet fluxes balance, and for an
+annular sector the conductance equals the exact h ln(R_outer / R_inner) / theta.
 """
 
 from __future__ import annotations
@@ -14,7 +13,8 @@ import meshio
 import numpy as np
 import pytest
 import skfem
-from skfem.helpers import dot, grad
+
+from _laplace import solve_potential
 
 from chanmesh.build import build
 from tests.conftest import small_design
@@ -35,24 +35,6 @@ def load_xdmf_into_skfem(folder, stem: str):  # noqa: ANN001, ANN201
         for name, info in names.items() if info["dim"] == 2
     }
     return mesh.with_boundaries(boundaries)
-
-
-def solve_potential(mesh):  # noqa: ANN001, ANN201
-    basis = skfem.Basis(mesh, skfem.ElementTetP2())
-
-    @skfem.BilinearForm
-    def laplace(u, v, w):  # noqa: ANN001, ANN202
-        return dot(grad(u), grad(v))
-
-    K = laplace.assemble(basis)
-    inlet = basis.get_dofs("inlet").all()
-    outlet = basis.get_dofs("outlet").all()
-    x = np.zeros(basis.N)
-    x[inlet] = 1.0
-    D = np.concatenate([inlet, outlet])
-    x = skfem.solve(*skfem.condense(K, np.zeros(basis.N), x=x, D=D))
-    reaction = K @ x  # boundary fluxes: the discrete reaction at the fixed potentials
-    return reaction[inlet].sum(), reaction[outlet].sum()
 
 
 @pytest.mark.parametrize("kind", ["arc", "serpentine"])

@@ -103,7 +103,8 @@ PATH_KINDS: dict[str, type] = {p.kind: p for p in (ArcPath, SpiralPath, Serpenti
 
 @dataclass(frozen=True)
 class Outlets:
-    """Split of the outlet face across the width, from the right-hand wall (looking downstream)."""
+    """Split of the outlet face across the width, from the u = -w/2 wall (the inner wall of arcs
+    and spirals; the left-hand wall looking downstream) to the u = +w/2 wall."""
 
     split: tuple[float, ...] = ()
 

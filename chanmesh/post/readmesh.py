@@ -29,6 +29,30 @@ def _tag_arrays(mesh) -> list[np.ndarray] | None:  # type: ignore[no-untyped-def
     return None
 
 
+def _with_xdmf_companions(p: Path, m, tags, names):  # type: ignore[no-untyped-def]
+    """chanmesh writes XDMF as a pair (``<stem>.xdmf`` cells, ``<stem>_facets.xdmf`` facets) with
+    the names in ``<stem>_groups.json``; when those files sit beside ``p``, read them too."""
+    import json
+
+    import meshio
+
+    facets_path = p.with_name(f"{p.stem}_facets.xdmf")
+    names_path = p.with_name(f"{p.stem}_groups.json")
+    if p.suffix != ".xdmf" or not facets_path.is_file() or tags is None:
+        return m, tags, names
+    try:
+        f = meshio.read(str(facets_path))
+        table = json.loads(names_path.read_text()) if names_path.is_file() else {}
+    except (Exception, SystemExit):  # a broken companion: fall back to the cells alone
+        return m, tags, names
+    ftags = _tag_arrays(f)
+    if ftags is None or len(f.points) != len(m.points):
+        return m, tags, names
+    merged = meshio.Mesh(m.points, list(m.cells) + list(f.cells))
+    names = {**names, **{int(v["tag"]): (k, int(v["dim"])) for k, v in table.items()}}
+    return merged, tags + ftags, names
+
+
 def read_mesh_file(path: str | Path) -> ChannelMesh:
     """Volume cells, boundary facets and named groups of a mesh file (points in file units)."""
     import meshio
@@ -45,6 +69,7 @@ def read_mesh_file(path: str | Path) -> ChannelMesh:
         raise MeshFileError(f"mesh file '{p}' cannot be read as a mesh: {why}") from None
     tags = _tag_arrays(m)
     names = {int(v[0]): (name, int(v[1]) if len(v) > 1 else None) for name, v in (m.field_data or {}).items()}
+    m, tags, names = _with_xdmf_companions(p, m, tags, names)
     points = np.asarray(m.points, dtype=float)
     if points.shape[1] == 2:
         points = np.column_stack([points, np.zeros(len(points))])
