@@ -26,7 +26,7 @@ def write_xdmf(mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions
     main = folder / f"{stem}.xdmf"
     side = folder / f"{stem}_facets.xdmf"
     names = folder / f"{stem}_groups.json"
-    meshio.write(main, cells, file_format="xdmf", compression="gzip", compression_opts=4)
-    meshio.write(side, facets, file_format="xdmf", compression="gzip", compression_opts=4)
+    meshio.write(main, cells, file_format="xdmf", compression="gzip", compression_opts=1)
+    meshio.write(side, facets, file_format="xdmf", compression="gzip", compression_opts=1)
     names.write_text(json.dumps(group_table(mesh), indent=2) + "\n")
     return [main, folder / f"{stem}.h5", side, folder / f"{stem}_facets.h5", names]
