@@ -32,7 +32,7 @@ def test_starters_load_and_document_every_table(family):
 def test_new_then_build_writes_the_default_formats(tmp_path, capsys):
     design = tmp_path / "s.toml"
     assert main(["new", "arc"]) == 0
-    text = capsys.readouterr().out.replace("cells_across = 12", "cells_across = 4")
+    text = capsys.readouterr().out.replace("cells_across = 8 ", "cells_across = 4 ")
     design.write_text(text)
     out = tmp_path / "out"
     assert main(["build", str(design), "--out", str(out)]) == 0

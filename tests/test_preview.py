@@ -21,7 +21,7 @@ from PIL import Image
 from chanmesh.cli import main
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
-from chanmesh.geometry.stations import station_arclength
+from chanmesh.post.stations import station_arc_length
 from chanmesh.meshing.registry import mesher_for
 from chanmesh.report.palette import PALETTE, SCALE_BAR, WALL
 from chanmesh.report.plan_view import nice_length, plan_picture
@@ -141,12 +141,12 @@ def test_palette_stays_apart_for_colour_blind_readers():
 def test_stations_resolve_to_arc_lengths(arc):
     R, Li = 2e-3, 0.5e-3
     L = Li + R * math.pi / 2 + 0.8e-3
-    assert station_arclength(arc, 0.5) == pytest.approx(0.5 * L)
-    assert station_arclength(arc, "45deg") == pytest.approx(Li + R * math.pi / 4, rel=1e-6)
-    assert station_arclength(arc, "1.2mm") == pytest.approx(1.2e-3)
+    assert station_arc_length(arc, 0.5) == pytest.approx(0.5 * L)
+    assert station_arc_length(arc, "45deg") == pytest.approx(Li + R * math.pi / 4, rel=1e-6)
+    assert station_arc_length(arc, "1.2mm") == pytest.approx(1.2e-3)
     for bad in (1.5, "200deg", "9mm", "turn=x", True):
         with pytest.raises(DesignError):
-            station_arclength(arc, bad)
+            station_arc_length(arc, bad)
 
 
 def test_preview_command_writes_both_pictures(tmp_path):

@@ -23,7 +23,7 @@ from matplotlib.patches import FancyArrow, Polygon, Rectangle  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.geometry.plan import plan_outline  # noqa: E402
-from chanmesh.geometry.stations import section_stations  # noqa: E402
+from chanmesh.post.stations import station_arc_lengths  # noqa: E402
 from chanmesh.report.palette import INK, INLET, PAPER, SCALE_BAR, WALL, group_colours  # noqa: E402
 
 DPI = 100
@@ -92,7 +92,7 @@ def plan_picture(design: Design, width: int = 1200, height: int = 800) -> PlanPi
         u = (-0.5 + 0.5 * (cum[k] + cum[k + 1])) * w
         turn = fan * (k / (len(names) - 1) - 0.5) if len(names) > 1 else 0.0
         _port_arrow(ax, line, line.length, u, arrow, colours[name], name, into=False, turn=turn)
-    for i, s in enumerate(section_stations(design)):
+    for i, s in enumerate(station_arc_lengths(design)):
         _tick(ax, line, s, w, f"section_{i + 1}")
 
     kind = design.path.kind
