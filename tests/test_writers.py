@@ -109,3 +109,26 @@ def test_manifest_lists_every_file_with_hash(built):
     on_disk = {p.name for p in built.folder.iterdir() if p.name != "manifest.json"}
     assert listed == on_disk
     assert not [p for p in built.folder.iterdir() if p.name.startswith(".")]  # no staging left
+
+
+@pytest.fixture(scope="module")
+def built_hex(tmp_path_factory):
+    out = tmp_path_factory.mktemp("fmt-hex")
+    d = small_design("serpentine", mesh={"cells": "hex"}, outlets={"split": [0.5, 0.5]})
+    return build(d, out, formats=tuple(name for name, f in FORMATS.items() if f.source == "mesh"))
+
+
+@pytest.mark.parametrize("suffix, key", [("msh", "gmsh:physical"), ("vtu", "group"), ("mesh", "medit:ref")])
+def test_hex_meshes_round_trip_with_their_tags(built_hex, suffix, key):
+    m = meshio.read(built_hex.folder / f"t.{suffix}")
+    assert _counts_by_tag(m, key) == _expected(built_hex)
+    assert sum(len(c.data) for c in m.cells if c.type == "hexahedron") == built_hex.mesh.n_volume_cells
+
+
+def test_hex_xdmf_pair_and_other_formats_read_back(built_hex):
+    folder = built_hex.folder
+    cells, facets = meshio.read(folder / "t.xdmf"), meshio.read(folder / "t_facets.xdmf")
+    assert {**_counts_by_tag(cells, "group"), **_counts_by_tag(facets, "group")} == _expected(built_hex)
+    for suffix in ("inp", "su2", "med"):
+        m = meshio.read(folder / f"t.{suffix}")
+        assert sum(len(c.data) for c in m.cells if c.type == "hexahedron") == built_hex.mesh.n_volume_cells
