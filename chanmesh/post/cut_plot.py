@@ -111,8 +111,8 @@ def render_png(c: Cut, title: str) -> bytes:
     pad = 0.08 * width
     ax.set_xlim(o.u0 * um - pad, o.u1 * um + pad)
     ax.set_ylim(o.bottom * um - 0.12 * height, max(o.top0, o.top1) * um + 0.12 * height)
-    ax.set_xlabel("u across the section (um), along n = t x z")
-    ax.set_ylabel("z (um)")
+    ax.set_xlabel("u across the section (µm), along n = t × z")
+    ax.set_ylabel("z (µm)")
     f = c.figures
     ax.set_title(
         f"{title}\nmean {f['streamwise_mean_m_s']:.4g} m/s, max {f['streamwise_max_m_s']:.4g} m/s;  "
