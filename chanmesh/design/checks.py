@@ -80,7 +80,7 @@ def _check_path(design: Design) -> None:
                 "so that neighbouring turns do not touch",
             )
         if not 0 < path.turns <= 50:
-            raise DesignError("path.turns", f"{path.turns:g}", "must lie in (0, 50]")
+            raise DesignError("path.turns", Shown(f"{path.turns:g}"), "must lie in (0, 50]")
     elif isinstance(path, SerpentinePath):
         _bend_radius(design, "path.radius", path.radius)
         need = 0.5 * w * (1 + MIN_WALL)
