@@ -132,3 +132,18 @@ def test_hex_xdmf_pair_and_other_formats_read_back(built_hex):
     for suffix in ("inp", "su2", "med"):
         m = meshio.read(folder / f"t.{suffix}")
         assert sum(len(c.data) for c in m.cells if c.type == "hexahedron") == built_hex.mesh.n_volume_cells
+
+
+def test_any_other_meshio_writer_is_one_flag_away(tmp_path):
+    r = build(small_design("arc"), tmp_path, formats=("meshio:vtk", "meshio:tetgen"))
+    listed = {f["name"] for f in r.manifest["files"]}
+    assert {"t.vtk", "t.ele", "t.node"} <= listed  # companions of a format are listed and hashed
+    m = meshio.read(tmp_path / "t.vtk")
+    assert _counts_by_tag(m, "group") == _expected(r)
+
+
+def test_unknown_meshio_writer_lists_the_known_ones(tmp_path):
+    from chanmesh.errors import DesignError
+
+    with pytest.raises(DesignError, match="meshio has no writer 'nope'; it has .*vtk"):
+        build(small_design("arc"), tmp_path, formats=("meshio:nope",))

@@ -31,15 +31,18 @@ class Format:
     summary: str
     keeps_names: bool
     source: str = "mesh"  # "mesh": written from the ChannelMesh; "design": from the design's solid
+    variant: str = ""  # passed on as ``file_format`` (meshio pass-through formats)
+
+    def _function(self) -> Callable[..., list[Path]]:
+        fn = getattr(importlib.import_module(self.module), self.function)
+        return (lambda *a: fn(*a, file_format=self.variant)) if self.variant else fn
 
     def write(self, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
-        fn: Callable[..., list[Path]] = getattr(importlib.import_module(self.module), self.function)
-        return fn(mesh, folder, stem, options)
+        return self._function()(mesh, folder, stem, options)
 
     def write_for(self, design: Design, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
         """Write from whichever input this format is made from."""
-        fn: Callable[..., list[Path]] = getattr(importlib.import_module(self.module), self.function)
-        return fn(design if self.source == "design" else mesh, folder, stem, options)
+        return self._function()(design if self.source == "design" else mesh, folder, stem, options)
 
 
 _G = "chanmesh.writers.gmsh_formats"
@@ -67,11 +70,25 @@ FORMATS: dict[str, Format] = {
 DEFAULT_FORMATS = ("msh", "xdmf", "vtu")
 
 
+MESHIO_PREFIX = "meshio:"
+
+
 def format_named(name: str) -> Format:
+    """The format called ``name``; ``meshio:FMT`` reaches any other writer of meshio's."""
     from chanmesh.errors import DesignError
 
+    if name.startswith(MESHIO_PREFIX):
+        from chanmesh.writers.meshio_formats import meshio_suffix
+
+        fmt = name[len(MESHIO_PREFIX):]
+        suffix = meshio_suffix(fmt)
+        if suffix is None:
+            from chanmesh.writers.meshio_formats import meshio_writers
+
+            raise DesignError("--format", name, f"meshio has no writer '{fmt}'; it has {', '.join(meshio_writers())}")
+        return Format(name, suffix, _M, "write_meshio", f"meshio's {fmt} writer (group tags as cell data)", False, variant=fmt)
     if name not in FORMATS:
-        raise DesignError("--format", name, f"must be one of {', '.join(FORMATS)}")
+        raise DesignError("--format", name, f"must be one of {', '.join(FORMATS)}, or meshio:FMT for another of meshio's writers")
     return FORMATS[name]
 
 

@@ -35,3 +35,37 @@ def write_medit(mesh: ChannelMesh, folder: Path, stem: str, options: WriteOption
     path = folder / f"{stem}.mesh"
     meshio.write(path, m, file_format="medit")
     return [path]
+
+
+def meshio_writers() -> list[str]:
+    """Names of meshio's writers (its ``file_format`` values)."""
+    from meshio._helpers import _writer_map
+
+    return sorted(_writer_map)
+
+
+def meshio_suffix(file_format: str) -> str | None:
+    """The file suffix meshio uses for ``file_format``, or None if meshio has no such writer."""
+    from meshio._helpers import extension_to_filetypes
+
+    if file_format not in meshio_writers():
+        return None
+    for ext, types in extension_to_filetypes.items():
+        if file_format in types:
+            return ext
+    return f".{file_format}"
+
+
+def write_meshio(mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions, file_format: str) -> list[Path]:
+    """Any other writer of meshio's; the group tags go along as cell data where it keeps any.
+
+    Returns every file the writer made (some formats write companions)."""
+    from chanmesh.errors import OutputError
+
+    before = set(folder.iterdir())
+    path = folder / f"{stem}{meshio_suffix(file_format)}"
+    try:
+        meshio.write(path, to_meshio(mesh), file_format=file_format)
+    except Exception as exc:  # meshio's writers raise many types for data they cannot hold
+        raise OutputError(f"meshio's {file_format} writer cannot write this mesh: {str(exc) or type(exc).__name__}") from None
+    return sorted(set(folder.iterdir()) - before)
