@@ -36,7 +36,7 @@ def add_format_arguments(p: argparse.ArgumentParser) -> None:
         "--format",
         type=formats_arg,
         default=DEFAULT_FORMATS,
-        help=f"comma-separated formats (default {','.join(DEFAULT_FORMATS)}; any of {','.join(FORMATS)})",
+        help=f"comma-separated formats (default {','.join(DEFAULT_FORMATS)}; any of {','.join(FORMATS)}, or meshio:FMT)",
     )
     p.add_argument("--msh-version", choices=("4.1", "2.2"), default="4.1", help="MSH file version (default 4.1)")
     p.add_argument("--binary", action="store_true", help="binary MSH instead of ASCII")
