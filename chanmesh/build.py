@@ -91,7 +91,6 @@ def build(
         mesh.info.update(counts)
         clock("writing")
         files: list[Path] = []
-        timings: dict[str, float] = {}
         for fmt in chosen:
             files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         extra = {}
@@ -103,8 +102,7 @@ def build(
         clock("report")
         draft = make_manifest(design, mesh, [], request, dict(clock.marks), extra)  # no file hashes yet
         files.append(write_report(staged.stage, design, mesh, draft, files))
-        timings = dict(clock.marks)
-        manifest = make_manifest(design, mesh, files, request, timings, extra)
+        manifest = make_manifest(design, mesh, files, request, dict(clock.marks), extra)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")
         final = staged.commit(MANIFEST)
     clock("done")
