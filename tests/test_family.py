@@ -79,8 +79,8 @@ def test_tet_family_writes_levels_and_family_json(tmp_path):
 
 
 def test_identical_levels_and_small_ratio_are_warned(tmp_path):
-    # cells_across 2 * 1.1 rounds back to 2: both levels are the same mesh
-    result = build_family(arc(across=2), tmp_path / "f", levels=2, ratio=1.1, formats=("msh",))
+    # hex counts 2 across, 2 high, 4 along times 1.1 round back to the same: both levels are one mesh
+    result = build_family(arc("hex", 2, "cells_high = 2\ncells_along = 4"), tmp_path / "f", levels=2, ratio=1.1, formats=("msh",))
     text = " ".join(result.record["warnings"])
     assert "below 1.3" in text and "identical" in text
 

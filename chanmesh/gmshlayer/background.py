@@ -61,6 +61,15 @@ def grading_of(design: Design, scale: float = 1.0) -> Grading:
     return Grading(h1, g, core_size(w, n, g))
 
 
+def tet_grading(design: Design, scale: float = 1.0) -> Grading:
+    """The tetrahedral size field refined by exactly ``scale``: the design's own grading with
+    every size divided by ``scale`` and the growth ratio replaced by its scale-th root. Unlike
+    the hexahedral grid, the size field needs no whole number of cells across, so a tet family
+    refines by the ratio asked, not by a rounded one."""
+    base = grading_of(design)
+    return Grading(base.h_wall / scale, base.ratio ** (1.0 / scale), base.h_core / scale)
+
+
 @dataclass(frozen=True)
 class SizeGrid:
     """Hexahedral grid cells (8 corners each, VTK order) with the target size at each corner."""

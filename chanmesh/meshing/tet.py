@@ -12,7 +12,7 @@ import gmsh
 import numpy as np
 
 from chanmesh.design.model import Design
-from chanmesh.gmshlayer.background import grading_of, install_size_field, size_grid
+from chanmesh.gmshlayer.background import install_size_field, size_grid, tet_grading
 from chanmesh.gmshlayer.labels import label_boundary, split_outlet
 from chanmesh.gmshlayer.sections import embed_sections
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
@@ -26,7 +26,7 @@ Progress = Callable[[str], None]
 
 def estimate_tet_cells(design: Design, scale: float = 1.0) -> int:
     """Tetrahedra the design is expected to give (within a factor of about 1.5)."""
-    return int(size_grid(design, grading_of(design, scale)).estimate_tets())
+    return int(size_grid(design, tet_grading(design, scale)).estimate_tets())
 
 
 def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
@@ -64,7 +64,7 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
 def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = None) -> ChannelMesh:
     """Mesh ``design`` with graded tetrahedra; ``scale`` > 1 refines every size by that factor."""
     say = progress or (lambda _stage: None)
-    grading = grading_of(design, scale)
+    grading = tet_grading(design, scale)
     grid = size_grid(design, grading)
     estimate = int(grid.estimate_tets())  # build.check_estimate enforces mesh.max_cells before this
     with gmsh_session(threads=design.mesh.threads):
