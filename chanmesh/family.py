@@ -33,6 +33,7 @@ from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
 from chanmesh.manifest import design_hash, manifest_is_current, read_manifest
 from chanmesh.post.gci_table import size_from_cells
+from chanmesh.post.quality import summary_figures
 from chanmesh.progress import BarClock, ProgressBar
 from chanmesh.safeio import atomic_write_text, ensure_folder
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions
@@ -131,7 +132,7 @@ def family_record(design: Design, plan: FamilyPlan, manifests: list[dict[str, An
             "content_hash": m["content_hash"],
         }
         if "quality" in m:
-            row["quality"] = m["quality"]
+            row["quality"] = summary_figures(m["quality"])
         rows.append(row)
     warnings = []
     if plan.ratio < MIN_RECOMMENDED_RATIO:

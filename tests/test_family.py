@@ -68,6 +68,8 @@ def test_tet_family_writes_levels_and_family_json(tmp_path):
         assert fine["ratio_to_next_requested"] == r
         assert fine["ratio_to_next"] == pytest.approx(r, rel=0.15)
     assert rows[-1]["ratio_to_next"] is None
+    # quality figures travel with each level, without the report's histograms
+    assert all("scaled_jacobian_min" in row["quality"] and "histograms" not in row["quality"] for row in rows)
     # the GCI report reads it as is
     sizes = read_family(out)
     assert sizes[1] == (rows[0]["h"], float(rows[0]["cells"]))

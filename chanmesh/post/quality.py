@@ -242,6 +242,11 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
 JACOBIAN_EDGES = np.linspace(-1.0, 1.0, 41)
 
 
+def summary_figures(quality: dict) -> dict:
+    """A manifest's quality section without its histograms: the figures tables and CSVs show."""
+    return {k: v for k, v in quality.items() if k != "histograms"}
+
+
 def _histograms(jac_counts: np.ndarray, ratios: np.ndarray, heights: np.ndarray) -> dict:
     """Histograms for the build report: scaled Jacobian on fixed bins, the others on 30 bins."""
     out = {"scaled_jacobian": {"edges": JACOBIAN_EDGES.tolist(), "counts": jac_counts.tolist()}}

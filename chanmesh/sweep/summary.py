@@ -16,6 +16,7 @@ from typing import Any
 
 from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
+from chanmesh.post.quality import summary_figures
 from chanmesh.safeio import atomic_write_text
 
 SUMMARY = "summary.csv"
@@ -51,7 +52,7 @@ def summary_rows(rows: list[dict[str, Any]], keys: list[str]) -> list[list[str]]
     out = [header]
     for r in rows:
         levels = r.get("levels") or []
-        quality = [lv["quality"] for lv in levels if lv.get("quality") is not None]
+        quality = [summary_figures(lv["quality"]) for lv in levels if lv.get("quality") is not None]
         numbers = r.get("numbers") or {}
         out.append([
             str(r["variant"]),
