@@ -154,7 +154,8 @@ def group_rows(manifest: dict[str, Any]) -> list[list[Any]]:
 
 
 def _quality_section(manifest: dict[str, Any]) -> str:
-    """Summary figures as a table and one histogram per entry of ``quality["histograms"]``."""
+    """Summary figures as a table and one histogram per entry of ``quality["histograms"]``;
+    lengths (metres in the manifest) are shown in micrometres."""
     quality = manifest.get("quality")
     if not isinstance(quality, dict) or "skipped" in quality or not quality:
         return '<p class="note">No quality figures in this build\'s manifest.</p>'
@@ -162,15 +163,19 @@ def _quality_section(manifest: dict[str, Any]) -> str:
     for name, entry in (quality.get("histograms") or {}).items():
         hist = histogram_of(entry)
         if hist is not None:
-            charts.append(_img(histogram_png(name, *hist), f"histogram of {name}"))
-    summary = [
-        [name.replace("_", " "), _num(v, 4)]
-        for name, v in quality.items()
-        if isinstance(v, (int, float)) and not isinstance(v, bool)
-    ]
+            edges, counts = hist
+            if name.endswith("_m"):
+                name, edges = f"{name[:-2]} (µm)", edges * 1e6
+            charts.append(_img(histogram_png(name, edges, counts), f"histogram of {name}"))
+    summary = []
+    for name, v in quality.items():
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            length = name.startswith("wall_cell")
+            unit = "µm" if length else ("deg" if name.startswith("non_orthogonality") else "")
+            summary.append([name.replace("_", " "), _num(v * 1e6 if length else v, 4), unit])
     out = f'<div class="charts">{"".join(charts)}</div>' if charts else ""
     if summary:
-        out += _table(["figure", "value"], summary)
+        out += _table(["figure", "value", "unit"], summary)
     return out or '<p class="note">The quality section holds no histogram or summary numbers.</p>'
 
 
