@@ -12,17 +12,15 @@ import dataclasses
 import io
 import json
 import math
-import os
 import re
-import tempfile
 from pathlib import Path
 from typing import Any, Sequence
 
 import numpy as np
 
 from chanmesh import __version__
-from chanmesh.errors import OutputError
 from chanmesh.post.gci import QuantityReport, StudyTable, TripleResult, TwoGridResult
+from chanmesh.safeio import atomic_write_bytes, atomic_write_text
 
 CAUTION = ("The GCI bounds discretisation error only; it does not validate the model. Simulation does "
            "not replace validation of a device against experiment.")
@@ -32,25 +30,6 @@ CSV_COLUMNS = (
     "phi_ext", "e_a21", "e_ext21", "gci_fine", "gci_medium", "band_fine", "asymptotic_ratio",
     "safety_factor", "convergence", "flags",
 )
-
-
-def _atomic_write(path: Path, write: Any, binary: bool = False) -> None:
-    """Call ``write(handle)`` on a temp file beside ``path``, then rename it to ``path``."""
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    except OSError as exc:
-        raise OutputError(f"cannot write in {path.parent}: {exc.strerror}") from None
-    try:
-        with os.fdopen(fd, "wb" if binary else "w", **({} if binary else {"encoding": "utf-8", "newline": ""})) as fh:
-            write(fh)
-        os.replace(tmp, path)
-    except BaseException as exc:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        if isinstance(exc, OSError):
-            raise OutputError(f"cannot write {path}: {exc.strerror}") from None
-        raise
 
 
 def slug(name: str) -> str:
@@ -208,8 +187,10 @@ def write_report(out_dir: Path, table: StudyTable, reports: Sequence[QuantityRep
     """Write gci.json, gci.csv and gci-<quantity>.png into ``out_dir``; the paths written."""
     paths = [out_dir / "gci.json", out_dir / "gci.csv"]
     text = json.dumps(report_dict(table, reports), indent=2)
-    _atomic_write(paths[0], lambda fh: fh.write(text + "\n"))
-    _atomic_write(paths[1], lambda fh: _write_csv(fh, reports))
+    atomic_write_text(paths[0], text + "\n")
+    table_text = io.StringIO(newline="")
+    _write_csv(table_text, reports)
+    atomic_write_text(paths[1], table_text.getvalue())
     used: set[str] = set()
     for rep in reports:
         stem = base = f"gci-{slug(rep.name)}"
@@ -218,6 +199,8 @@ def write_report(out_dir: Path, table: StudyTable, reports: Sequence[QuantityRep
             stem, k = f"{base}-{k}", k + 1
         used.add(stem)
         png = out_dir / f"{stem}.png"
-        _atomic_write(png, lambda fh, rep=rep: _plot(fh, rep, table.h_note), binary=True)
+        picture = io.BytesIO()
+        _plot(picture, rep, table.h_note)
+        atomic_write_bytes(png, picture.getvalue())
         paths.append(png)
     return paths
