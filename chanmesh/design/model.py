@@ -8,9 +8,10 @@ file, and ``chanmesh.design.checks`` decides whether they can be built. Variants
 from __future__ import annotations
 
 import dataclasses
-import math
 from dataclasses import dataclass, field
 from typing import Any, ClassVar, Union
+
+from chanmesh.jsondata import finite_json
 
 
 @dataclass(frozen=True)
@@ -191,15 +192,5 @@ class Design:
             "flow": {**dataclasses.asdict(self.flow), "particles": list(self.flow.particles)},
             "fabrication": dataclasses.asdict(self.fabrication),
         }
-        return _finite(out)
+        return finite_json(out)
 
-
-def _finite(obj: Any) -> Any:
-    """Replace non-finite floats (never expected) so that JSON stays standard."""
-    if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_finite(v) for v in obj]
-    if isinstance(obj, float) and not math.isfinite(obj):
-        return None
-    return obj

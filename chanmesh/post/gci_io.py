@@ -19,6 +19,7 @@ from typing import Any, Sequence
 import numpy as np
 
 from chanmesh import __version__
+from chanmesh.jsondata import finite_json
 from chanmesh.post.gci import QuantityReport, StudyTable, TripleResult, TwoGridResult
 from chanmesh.safeio import atomic_write_bytes, atomic_write_text
 
@@ -35,17 +36,6 @@ CSV_COLUMNS = (
 def slug(name: str) -> str:
     """A file-name-safe form of a quantity name."""
     return re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("_") or "quantity"
-
-
-def _clean(value: Any) -> Any:
-    """JSON-safe copy: nan/inf become null, tuples lists."""
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {k: _clean(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_clean(v) for v in value]
-    return value
 
 
 def _pct(x: float) -> str:
@@ -103,7 +93,7 @@ def format_report(table: StudyTable, reports: Sequence[QuantityReport]) -> str:
 
 def report_dict(table: StudyTable, reports: Sequence[QuantityReport]) -> dict[str, Any]:
     """Everything in the report as plain JSON-ready data."""
-    return _clean({
+    return finite_json({
         "chanmesh_version": __version__,
         "method": "Celik et al. (2008) J. Fluids Eng. 130(7) 078001; two-grid GCI: Roache (1994)",
         "h_source": table.h_note,
