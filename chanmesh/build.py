@@ -37,8 +37,22 @@ def _quality(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
     return mesh_quality(mesh).as_dict()
 
 
-MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("quality", _quality), ("numbers", _numbers)]
-"""Extra manifest sections (name, function): design numbers, mesh quality, ... Each hook
+def _resolution(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
+    from chanmesh.errors import ChanmeshError
+
+    try:
+        from chanmesh.resolution import resolution_figure
+
+        return resolution_figure(design, mesh)
+    except ChanmeshError as exc:  # e.g. the section flow does not converge at this operating point
+        return {"skipped": str(exc)}
+    except ImportError as exc:  # the section-flow package (chanmesh.flow) is missing from this install
+        return {"skipped": f"section-flow solver not available ({exc})"}
+
+
+MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("quality", _quality), ("numbers", _numbers), ("resolution", _resolution)]
+"""Extra manifest sections (name, function): design numbers, mesh quality, the resolution
+figure (chanmesh.resolution: the section flow on the mesh's own section grid), ... Each hook
 returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
 recorded as {"skipped": message} instead of failing the build."""
 
@@ -55,12 +69,9 @@ def check_estimate(design: Design, scale: float = 1.0) -> int:
     """Refuse a design whose estimated cell count exceeds ``mesh.max_cells`` (before meshing)."""
     estimate = mesher_for(design).estimate(design, scale=scale)
     if estimate > design.mesh.max_cells:
-        raise DesignError(
-            "mesh.max_cells",
-            design.mesh.max_cells,
-            f"the {design.mesh.cells} mesh is estimated at {estimate:,} cells; raise max_cells "
-            "or coarsen the mesh (fewer cells_across, a larger first_cell)",
-        )
+        from chanmesh.meshing.budget import too_many_cells
+
+        raise too_many_cells(design, estimate, scale)
     return estimate
 
 

@@ -29,8 +29,12 @@ def first_cell(length: float, n: int, ratio: float) -> float:
     if ratio == 1.0 or n == 1:
         return length / n
     half, odd = _half_counts(n)
+    try:
+        grown = ratio**half
+    except OverflowError:  # so many cells that the wall cell underflows
+        return 0.0
     # sum of both halves: 2 h1 (g^half - 1)/(g - 1), plus the middle cell h1 g^half when n is odd
-    total = 2.0 * (ratio**half - 1.0) / (ratio - 1.0) + (ratio**half if odd else 0.0)
+    total = 2.0 * (grown - 1.0) / (ratio - 1.0) + (grown if odd else 0.0)
     return length / total
 
 
@@ -82,17 +86,25 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
     length (g - 1) / 2 however many cells are added.
     """
     if ratio <= 1.0 or h1 >= h_max:
-        n = cells_for(length, h_max)
+        n = max(1, int(round(length / h_max)))
         return np.linspace(0.0, length, n + 1)
-    m = max(1, int(math.ceil(math.log(h_max / h1) / math.log(ratio))))
+    m = max(1, int(math.ceil(math.log(h_max / h1) / math.log(ratio) - 1e-9)))
+    ramp_length = h1 * (ratio**m - 1.0) / (ratio - 1.0) if m * h1 < length else math.inf
+    middle = length - 2.0 * ramp_length
+    if middle < h1 * ratio ** (m - 1):
+        # the two ramps meet: the fewest cells of a symmetric progression that starts at
+        # exactly h1 and grows by at most ``ratio``
+        lo, hi = 1, 2
+        while first_cell(length, hi, ratio) > h1:
+            lo, hi = hi, hi * 2
+        while hi - lo > 1:  # first_cell falls as n grows: bisect for the smallest n that fits
+            mid = (lo + hi) // 2
+            lo, hi = (mid, hi) if first_cell(length, mid, ratio) > h1 else (lo, mid)
+        n = max(hi, 2)
+        if h1 * n >= length:
+            return np.linspace(0.0, length, n + 1)
+        return graded_nodes(length, n, ratio_for_first_cell(length, n, h1))
     ramp = h1 * ratio ** np.arange(m)
-    middle = length - 2.0 * ramp.sum()
-    if middle < ramp[-1]:
-        # the two ramps meet: the smallest symmetric progression whose wall cell is <= h1
-        n = 2
-        while first_cell(length, n, ratio) > h1 and n < 100_000:
-            n += 1
-        return graded_nodes(length, n, ratio)
     n_mid = max(1, int(round(middle / h_max)))
     cells = np.concatenate([ramp, np.full(n_mid, middle / n_mid), ramp[::-1]])
     nodes = np.concatenate([[0.0], np.cumsum(cells)])
@@ -101,38 +113,120 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
     return nodes
 
 
+DEFAULT_CORE_CELLS = 16
+"""Core cells over the smaller side of the section when neither ``cells_across`` nor
+``cells_high`` is given (the core cell is min(width, height) / 16). Chosen so that the default
+hexahedral mesh passes the resolution figure (docs/resolution.md); see ``default_core_cells``."""
+
+WALL_DIVISIONS = 32
+"""Default wall cell: min(width, height) / 32, or half the smaller core cell if that is larger
+(a coarse core keeps a few wall layers instead of many); never larger than the core cell."""
+
+
 @dataclass(frozen=True)
 class Grading:
-    """The wall grading of a design, shared by both meshers (metres)."""
+    """The wall grading of a design, shared by both meshers (metres).
+
+    Every wall (side walls, bottom, top) gets the same law: the wall-adjacent cell ``h_wall``,
+    growing by ``ratio`` per cell away from the wall until it reaches the core size; the core
+    is uniform, ``h_core`` across the width and ``h_core_high`` over the (mean) height. A cell
+    at wall distance d has about the size min(h_wall + (ratio - 1) d, core).
+    """
 
     h_wall: float
     ratio: float
-    h_core: float
+    h_core: float  # core cell across the width
+    h_core_high: float = 0.0  # core cell over the height (0: same as h_core)
+
+    @property
+    def h_core_min(self) -> float:
+        """The smaller core size: the isotropic core of the tetrahedral size field."""
+        return min(self.h_core, self.h_core_high or self.h_core)
 
     def size(self, d: np.ndarray) -> np.ndarray:
-        return size_at_distance(d, self.h_wall, self.ratio, self.h_core)
+        """Isotropic target size at wall distance ``d`` (the tetrahedral size field)."""
+        return size_at_distance(d, self.h_wall, self.ratio, self.h_core_min)
+
+    def nodes_across(self, length: float) -> np.ndarray:
+        """Nodes in [0, length]: wall layers at both ends, core cells ``h_core`` between."""
+        return capped_nodes(length, self.h_wall, self.ratio, self.h_core)
+
+    def nodes_high(self, length: float) -> np.ndarray:
+        """Nodes in [0, length] over the height: wall layers, core cells ``h_core_high``."""
+        return capped_nodes(length, self.h_wall, self.ratio, self.h_core_high or self.h_core)
+
+    def scaled(self, scale: float) -> "Grading":
+        """Refined by ``scale``: sizes divided by it, the growth ratio replaced by its scale-th
+        root, so every count (core and wall layers) grows by ``scale`` and a family's cell
+        count by scale^3 (within rounding)."""
+        return Grading(self.h_wall / scale, self.ratio ** (1.0 / scale), self.h_core / scale,
+                       (self.h_core_high or self.h_core) / scale)
+
+
+@dataclass(frozen=True)
+class Resolution:
+    """The resolution keys of a design as resolved (counts as written or defaulted)."""
+
+    cells_across: float  # width / core cell across
+    cells_high: float  # mean height / core cell over the height
+    first_cell: float  # wall cell, m
+    wall_ratio: float
+    source: dict  # key -> "design" | "default" (where each value came from)
+
+
+def resolution_of(design: Design) -> Resolution:
+    """The four resolution keys of ``design`` with their defaults filled in (scale 1).
+
+    * neither ``cells_across`` nor ``cells_high``: the core cell is min(width, height) /
+      ``default_core_cells(design)`` (square core cells);
+    * one of them: the other gives square core cells (rounded to a whole count, at least 1);
+    * ``first_cell`` absent: min(width, height) / WALL_DIVISIONS, or half the smaller core cell
+      if that is larger: from the default core and finer it stays put when the core is refined.
+    """
+    m = design.mesh
+    w, H = design.section.width, design.section.height
+    src = {}
+    if m.cells_across is None and m.cells_high is None:
+        core = min(w, H) / default_core_cells(design)
+        n_a, n_h = max(1, round(w / core)), max(1, round(H / core))
+        src["cells_across"] = src["cells_high"] = "default"
+    elif m.cells_high is None:
+        n_a = m.cells_across
+        n_h = max(1, round(H * n_a / w))
+        src["cells_across"], src["cells_high"] = "design", "default (square core cells)"
+    elif m.cells_across is None:
+        n_h = m.cells_high
+        n_a = max(1, round(w * n_h / H))
+        src["cells_across"], src["cells_high"] = "default (square core cells)", "design"
+    else:
+        n_a, n_h = m.cells_across, m.cells_high
+        src["cells_across"] = src["cells_high"] = "design"
+    if m.first_cell is not None:
+        h1 = m.first_cell
+        src["first_cell"] = "design"
+    else:
+        h1 = max(min(w, H) / WALL_DIVISIONS, 0.5 * min(w / n_a, H / n_h))
+        src["first_cell"] = "default"
+    return Resolution(float(n_a), float(n_h), h1, m.wall_ratio, src)
+
+
+def default_core_cells(design: Design) -> int:
+    """Core cells over the section's smaller side when the design gives no count."""
+    return DEFAULT_CORE_CELLS
 
 
 def grading_of(design: Design, scale: float = 1.0) -> Grading:
-    """Grading from ``mesh.cells_across`` with ``wall_ratio`` or ``first_cell``; ``scale``
-    refines it (sizes divided by ``scale``, the growth ratio replaced by its scale-th root so
-    that a refined family keeps the same stretching per unit length)."""
-    m = design.mesh
-    w = design.section.width
-    n = max(2, int(round(m.cells_across * scale)))
-    if m.first_cell is not None:
-        h1 = m.first_cell / scale
-        g = ratio_for_first_cell(w, n, min(h1, w / n))
-    else:
-        g = m.wall_ratio ** (1.0 / scale)
-        h1 = first_cell(w, n, g)
-    return Grading(h1, g, core_size(w, n, g))
+    """The grading of ``design`` refined by ``scale`` (see ``Grading.scaled``).
+
+    Core cells: width / cells_across and mean height / cells_high; wall cell: first_cell
+    (never larger than the smaller core cell); growth ratio: wall_ratio."""
+    r = resolution_of(design)
+    w, H = design.section.width, design.section.height
+    core_a, core_h = w / r.cells_across, H / r.cells_high
+    h1 = min(r.first_cell, core_a, core_h)
+    return Grading(h1, r.wall_ratio, core_a, core_h).scaled(scale)
 
 
 def tet_grading(design: Design, scale: float = 1.0) -> Grading:
-    """The tetrahedral size field refined by exactly ``scale``: the design's own grading with
-    every size divided by ``scale`` and the growth ratio replaced by its scale-th root. Unlike
-    the hexahedral grid, the size field needs no whole number of cells across, so a tet family
-    refines by the ratio asked, not by a rounded one."""
-    base = grading_of(design)
-    return Grading(base.h_wall / scale, base.ratio ** (1.0 / scale), base.h_core / scale)
+    """The tetrahedral size field: the same grading, refined by exactly ``scale``."""
+    return grading_of(design, scale)

@@ -26,7 +26,7 @@ def test_a_length_may_carry_its_own_unit():
 
 def test_defaults_fill_optional_tables():
     d = loads_design('name = "x"\n[section]\nwidth = 100\nheight = 40\n[path]\nkind = "arc"\nradius = 500\nangle = 45\n')
-    assert d.mesh.cells == "tet" and d.mesh.cells_across == 12 and d.mesh.max_cells == 5_000_000
+    assert d.mesh.cells == "hex" and d.mesh.cells_across is None and d.mesh.max_cells == 5_000_000
     assert d.outlets.names == ("outlet",)
 
 
@@ -48,7 +48,7 @@ def _error(text: str) -> DesignError:
         ({"outlets": {"split": [1.2, -0.2]}}, "outlets.split[1]", "greater than 0"),
         ({"mesh": {"cells": "poly"}}, "mesh.cells", "'tet', 'hex'"),
         ({"mesh": {"wall_ratio": 5.0}}, "mesh.wall_ratio", "[1, 3]"),
-        ({"mesh": {"cells_across": 1}}, "mesh.cells_across", "from 2 to 2000"),
+        ({"mesh": {"cells_across": 0}}, "mesh.cells_across", "from 1 to 2000"),
         ({"name": "../escape"}, "name", "path separators"),
         ({"name": "a/b"}, "name", "path separators"),
     ],

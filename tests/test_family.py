@@ -81,8 +81,9 @@ def test_tet_family_writes_levels_and_family_json(tmp_path):
 
 
 def test_identical_levels_and_small_ratio_are_warned(tmp_path):
-    # hex counts 2 across, 2 high, 4 along times 1.1 round back to the same: both levels are one mesh
-    result = build_family(arc("hex", 2, "cells_high = 2\ncells_along = 4"), tmp_path / "f", levels=2, ratio=1.1, formats=("msh",))
+    # uniform hex cells, 2 across, 2 high, 4 along, times 1.1 round back to the same: both levels are one mesh
+    result = build_family(arc("hex", 2, "cells_high = 2\ncells_along = 4\nwall_ratio = 1"), tmp_path / "f", levels=2, ratio=1.1,
+                          formats=("msh",))
     text = " ".join(result.record["warnings"])
     assert "below 1.3" in text and "identical" in text
 
@@ -99,10 +100,10 @@ def test_cli_family_prints_levels(tmp_path, capsys):
 @pytest.mark.skipif("hex" not in MESHERS, reason="the hexahedral mesher is not registered on this branch (it lands with the hex branch)")
 def test_hex_family_scales_cell_counts_by_ratio_cubed(tmp_path):
     r = 2.0
-    design = arc("hex", 4, "cells_high = 2\ncells_along = 10")
+    design = arc("hex", 4, "cells_high = 2\ncells_along = 10\nwall_ratio = 1")
     rows = build_family(design, tmp_path / "hexfam", levels=3, ratio=r, formats=("msh",)).record["levels"]
     for fine, coarse in zip(rows, rows[1:]):
-        # each of the three counts (across, high, along) doubles exactly: N scales by r^3
+        # uniform cells: each of the three counts (across, high, along) doubles exactly: N scales by r^3
         assert fine["cells"] == coarse["cells"] * round(r) ** 3
         # h = (V/N)^(1/3) (Celik et al. 2008, eq. 1) then halves exactly
         assert fine["ratio_to_next"] == pytest.approx(r, rel=1e-12)

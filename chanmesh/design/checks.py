@@ -135,20 +135,32 @@ def _check_mesh(design: Design) -> None:
     m = design.mesh
     if m.cells not in MESHERS:
         raise DesignError("mesh.cells", m.cells, f"must be one of {', '.join(repr(c) for c in MESHERS)}")
-    if not 2 <= m.cells_across <= 2000:
-        raise DesignError("mesh.cells_across", m.cells_across, "must be a whole number from 2 to 2000")
+    if m.cells_across is not None and not 1 <= m.cells_across <= 2000:
+        raise DesignError("mesh.cells_across", m.cells_across, "must be a whole number from 1 to 2000 (core cells across the width)")
+    if m.cells_high is not None and not 1 <= m.cells_high <= 2000:
+        raise DesignError("mesh.cells_high", m.cells_high, "must be a whole number from 1 to 2000 (core cells over the height)")
     if not 1.0 <= m.wall_ratio <= 3.0:
         raise DesignError("mesh.wall_ratio", m.wall_ratio, "must lie in [1, 3] (1 = uniform cells)")
     if m.first_cell is not None:
         _positive(design, "mesh.first_cell", m.first_cell)
-        if m.first_cell * m.cells_across > design.section.width * (1 + 1e-12):
+        from chanmesh.sizing import resolution_of
+
+        r = resolution_of(design)
+        core = min(design.section.width / r.cells_across, design.section.height / r.cells_high)
+        if m.first_cell > core * (1 + 1e-9):
             raise DesignError(
                 "mesh.first_cell",
                 _fmt(design, m.first_cell),
-                f"must be at most section.width / cells_across = {_fmt(design, design.section.width / m.cells_across)}",
+                f"must be at most the core cell ({_fmt(design, core)} = the smaller of width / cells_across "
+                "and height / cells_high): the wall cell grows toward the core, never shrinks",
             )
-    if m.cells_high is not None and not 1 <= m.cells_high <= 2000:
-        raise DesignError("mesh.cells_high", m.cells_high, "must be a whole number from 1 to 2000")
+        if m.first_cell < core * 1e-4:
+            raise DesignError(
+                "mesh.first_cell",
+                _fmt(design, m.first_cell),
+                f"must be at least 1e-4 of the core cell ({_fmt(design, core)}); a smaller wall cell needs "
+                "more than ~50 wall layers",
+            )
     if m.cells_along is not None and not 1 <= m.cells_along <= 10_000_000:
         raise DesignError("mesh.cells_along", m.cells_along, "must be a whole number from 1 to 10000000")
     if not 0.1 <= m.along_aspect <= 100 or not math.isfinite(m.along_aspect):

@@ -159,8 +159,8 @@ PATH_KEYS: dict[str, dict[str, Key]] = {
 OUTLET_KEYS: dict[str, Key] = {"split": Key(read_float_list, default=())}
 
 MESH_KEYS: dict[str, Key] = {
-    "cells": Key(read_str, default="tet"),
-    "cells_across": Key(read_int, default=12),
+    "cells": Key(read_str, default="hex"),
+    "cells_across": Key(read_int),
     "wall_ratio": Key(read_float, default=1.2),
     "first_cell": Key(read_length),
     "cells_high": Key(read_int),

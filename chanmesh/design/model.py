@@ -120,11 +120,11 @@ class Outlets:
 class MeshSpec:
     """How to mesh: mesher, resolution, grading and limits."""
 
-    cells: str = "tet"  # "tet" | "hex"
-    cells_across: int = 12
-    wall_ratio: float = 1.2
-    first_cell: float | None = None  # metres; overrides wall_ratio when given
-    cells_high: int | None = None
+    cells: str = "hex"  # "hex" | "tet"
+    cells_across: int | None = None  # core cell across = width / cells_across (None: default)
+    wall_ratio: float = 1.2  # growth of the wall layers toward the core
+    first_cell: float | None = None  # metres; wall-adjacent cell on every wall (None: default)
+    cells_high: int | None = None  # core cell over the height = height / cells_high
     cells_along: int | None = None
     along_aspect: float = 2.0
     max_cells: int = 5_000_000

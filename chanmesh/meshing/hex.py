@@ -116,11 +116,9 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     plan = plan_hex(design, scale)
     count = plan.cell_count()
     if count > design.mesh.max_cells:
-        raise DesignError(
-            "mesh.max_cells", design.mesh.max_cells,
-            f"the hexahedral mesh would have {count:,} cells; raise max_cells or coarsen "
-            "(fewer cells_across or cells_along, larger along_aspect)",
-        )
+        from chanmesh.meshing.budget import too_many_cells
+
+        raise too_many_cells(design, count, scale)
     say("nodes")
     nk, ni, nj = plan.shape
     points = grid_points(design, plan).reshape(-1, 3)

@@ -22,8 +22,7 @@ from chanmesh.design.model import ChambersPath, Design
 from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
-from chanmesh.sizing import Grading, grading_of
-from chanmesh.sizing import capped_nodes, graded_nodes, ratio_for_first_cell
+from chanmesh.sizing import Grading, capped_nodes, grading_of
 
 
 @dataclass(frozen=True)
@@ -72,16 +71,6 @@ def _scaled(n: int, scale: float, least: int) -> int:
     return max(least, int(round(n * scale)))
 
 
-def _graded(length: float, n: int, grading: Grading, by_first_cell: bool) -> tuple[np.ndarray, float]:
-    """A symmetric progression of ``n`` cells: the design's ratio, or the ratio that gives the
-    design's first cell (uniform when that cell would exceed the uniform size)."""
-    if by_first_cell:
-        ratio = 1.0 if grading.h_wall * n >= length else ratio_for_first_cell(length, n, grading.h_wall)
-    else:
-        ratio = grading.ratio
-    return graded_nodes(length, n, ratio), ratio
-
-
 def _honour_split(nodes: np.ndarray, targets: np.ndarray) -> tuple[np.ndarray, tuple[int, ...]]:
     """Move the node nearest each target onto it, stretching the grid piecewise linearly in
     between, so that every outlet boundary is a grid line. Returns nodes and the indices."""
@@ -109,19 +98,18 @@ def _along_counts(lengths: np.ndarray, total: int) -> np.ndarray:
 
 
 def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
-    """The grid of ``design``; ``scale`` > 1 refines counts by ``scale`` and the first cell by
-    1 / scale (through ``grading_of``, shared with the tetrahedral mesher)."""
+    """The grid of ``design``; ``scale`` > 1 refines every size by ``scale`` (through
+    ``grading_of``, shared with the tetrahedral mesher): core cells, wall cell, and the growth
+    ratio replaced by its scale-th root, so every count grows by about ``scale``."""
     m = design.mesh
     shape = section_shape_of(design)
     w, H = shape.width, shape.mean_height
     grading = grading_of(design, scale)
-    by_first = m.first_cell is not None
-    n_across = _scaled(m.cells_across, scale, 2)
-    u_band, _ = _graded(w, n_across, grading, by_first)
-    u_band = u_band - 0.5 * w
-    n_high = _scaled(m.cells_high, scale, 1) if m.cells_high is not None else max(2, int(round(n_across * H / w)))
-    eta, ratio_high = _graded(H, n_high, grading, by_first)
+    u_band = grading.nodes_across(w) - 0.5 * w
+    n_across = len(u_band) - 1
+    eta = grading.nodes_high(H)
     first_high = float(eta[1] - eta[0])
+    ratio_high = float((eta[2] - eta[1]) / (eta[1] - eta[0])) if len(eta) > 3 else 1.0
     eta = eta / H
 
     split = design.outlets.split
@@ -130,7 +118,7 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
         if n_across < len(split):
             raise DesignError(
                 "mesh.cells_across", m.cells_across,
-                f"the hexahedral mesher needs at least one cell per outlet ({len(split)} outlets)",
+                f"the hexahedral mesher needs at least one cell per outlet ({len(split)} outlets, {n_across} cells across)",
             )
         targets = -0.5 * w + w * np.cumsum(split)[:-1]
         u_band, outlet_nodes = _honour_split(u_band, targets)
@@ -140,7 +128,7 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
         line.length / _scaled(m.cells_along, scale, 1) if m.cells_along is not None else m.along_aspect * grading.h_core
     )
     if isinstance(design.path, ChambersPath):
-        return _chambers_plan(design, grading, by_first, u_band, outlet_nodes, eta, ratio_high, first_high, h_along)
+        return _chambers_plan(design, grading, u_band, outlet_nodes, eta, ratio_high, first_high, h_along)
     lengths = np.diff(line.breaks)
     total = _scaled(m.cells_along, scale, 1) if m.cells_along is not None else int(math.ceil(line.length / h_along - 1e-9))
     counts = _along_counts(lengths, max(total, len(lengths)))
@@ -168,7 +156,7 @@ def _through_stations(design: Design, s: np.ndarray, keep: np.ndarray) -> np.nda
 
 
 def _chambers_plan(
-    design: Design, grading: Grading, by_first: bool, u_band: np.ndarray, outlet_nodes: tuple[int, ...],
+    design: Design, grading: Grading, u_band: np.ndarray, outlet_nodes: tuple[int, ...],
     eta: np.ndarray, ratio_high: float, first_high: float, h_along: float,
 ) -> HexPlan:
     """Throats and chambers on one tensor grid: the throat walls' grid lines run on through
@@ -184,8 +172,7 @@ def _chambers_plan(
     pieces = []
     for a, b in ((lo, -0.5 * w), (0.5 * w, hi)):
         if b - a > 1e-12 * w:
-            n_side = max(2, int(round(n_across * (b - a) / w)))
-            pieces.append(a + _graded(b - a, n_side, grading, by_first)[0])
+            pieces.append(a + grading.nodes_across(b - a))
         else:
             pieces.append(np.zeros(0))
     left, right = pieces

@@ -19,6 +19,7 @@ from chanmesh.gmshlayer.sections import embed_sections
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
 from chanmesh.meshing.model import Block, ChannelMesh, Group
+from chanmesh.meshing.wallcells import count_multi_wall_tets
 
 GMSH_TYPES = {4: "tetra", 2: "triangle", 5: "hexahedron", 3: "quad", 6: "wedge"}
 
@@ -86,9 +87,10 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
             "mesher": "tet (gmsh OpenCASCADE + HXT)",
             "gmsh_version": gmsh.__version__,
             "wall_cell": grading.h_wall,
-            "core_cell": grading.h_core,
+            "core_cell": grading.h_core_min,
             "growth_ratio": grading.ratio,
             "estimated_cells": estimate,
+            "tets_with_two_wall_faces": count_multi_wall_tets(mesh),
         }
     )
     return mesh

@@ -215,6 +215,42 @@ def _numbers_section(numbers: dict[str, Any] | str) -> str:
     return out
 
 
+def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, Any]) -> str:
+    """The section mesh picture, the figure's table, and the two section flows side by side."""
+    record = manifest.get("resolution")
+    if not isinstance(record, dict):
+        return '<p class="note">No resolution figure in this build.</p>'
+    if "errors" not in record:
+        return f'<p class="note">Resolution figure not computed: {html.escape(str(record.get("skipped", "")))}</p>'
+    from chanmesh.report.section_view import section_mesh_png, solutions_png
+    from chanmesh.resolution import figure_for_mesh
+
+    fig = figure_for_mesh(design, mesh)
+    e, lim = record["errors"], record["limits"]
+    op = record["operating_point"]
+    ref_err = record["reference"]["estimated_error"]
+    rows = [
+        [name.replace("_", " "), f"{e[name]:+.2%}", f"{lim[name]:.0%}", "yes" if abs(e[name]) <= lim[name] else "no",
+         "" if ref_err.get(key) is None else f"{ref_err[key]:.1e}"]
+        for name, key in (("secondary_max", "secondary_max"), ("secondary_mean", "secondary_mean"), ("flow_rate", "dpds"))
+    ]
+    de = record.get("dean")
+    where = (f"{op['flow_rate_mL_min']:.4g} mL/min ({html.escape(op['source'])}), Re {record['reynolds']:.3g}, "
+             + (f"De {de:.3g} at the tightest bend, R = {abs(record['radius_m']) * 1e3:.4g} mm" if de else "straight duct"))
+    warn = ('<p class="caution">This mesh misses the developed section flow by more than 10 %: refine the core '
+            "(cells_high, cells_across) or the wall cell (first_cell).</p>") if record.get("warning") else ""
+    return "\n".join([
+        f'<p class="note">Fully developed flow of the channel\'s own section at {where}, solved on this mesh\'s '
+        "section grid (its inlet face; velocity on the mesh's own nodes) and on a converged reference. Errors "
+        "relative to the reference; an idealisation that fails in short bends, U-turns, chambers and entrance "
+        "regions (docs/resolution.md).</p>",
+        warn,
+        _table(["figure", "error on this mesh", "default mesh meets", "met", "reference's own error"], rows),
+        f"<figure>{_img(section_mesh_png(design, fig.grid, record['radius_m']), 'the section mesh, walls labelled')}</figure>",
+        f"<figure>{_img(solutions_png(design, fig.reference, fig.on_mesh, record['radius_m'], e), 'converged section flow and the same on this mesh')}</figure>",
+    ])
+
+
 def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> str:
     """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used)."""
     plan = plan_picture(design, 1100, 720).png
@@ -250,6 +286,8 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
         _columns(_table(["cells", "count"], cells), _table(["mesher", "value", "unit"], mesher_rows) if mesher_rows else ""),
         "<h3>Quality</h3>",
         _quality_section(manifest),
+        "<h2>Resolution of the section flow</h2>",
+        _resolution_section(design, mesh, manifest),
         "<h2>Physical groups</h2>",
         _table(["group", "dim", "tag", "entities", "measured", "analytic", "relative error", "unit"], group_rows(manifest)),
         "<h2>Design numbers</h2>",
