@@ -8,15 +8,31 @@ from __future__ import annotations
 import math
 import re
 
-from chanmesh.design.model import ArcPath, ChambersPath, Design, SerpentinePath, SpiralPath
+from chanmesh.design.model import (
+    ArcPath,
+    ArcPiece,
+    ChambersPath,
+    Design,
+    LinePiece,
+    SegmentsPath,
+    SerpentinePath,
+    SpiralPath,
+    StraightPath,
+)
 from chanmesh.errors import DesignError, Shown
 
 MIN_WALL = 0.05
 """Smallest solid wall between neighbouring channel runs, as a fraction of the width
 (common practice, no source: bonding needs some land between channels)."""
 
-NAME_PATTERN = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$")
+NAME_PATTERN = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]{0,79}")  # used with fullmatch: no trailing newline
 MESHERS = ("tet", "hex")
+MAX_WALL_RATIO = 3.0
+MIN_FIRST_CELL = 1e-3
+"""Smallest first_cell as a fraction of the core cell: 38 wall layers at growth 1.2 (common practice,
+no source: a laminar channel needs no finer wall cell than that)."""
+"""Largest ``wall_ratio`` (common practice, no source: stronger stretching spoils the accuracy
+of most finite-volume schemes)."""
 
 
 def _fmt(design: Design, metres: float) -> str:
@@ -31,7 +47,7 @@ def _positive(design: Design, key: str, metres: float) -> None:
 
 def check_design(design: Design) -> None:
     """Raise ``DesignError`` for the first rule the design breaks."""
-    if not NAME_PATTERN.match(design.name) or ".." in design.name:
+    if not NAME_PATTERN.fullmatch(design.name) or ".." in design.name:
         raise DesignError(
             "name",
             design.name,
@@ -94,6 +110,10 @@ def _check_path(design: Design) -> None:
         _positive(design, "path.straight", path.straight)
         if not 1 <= path.periods <= 200:
             raise DesignError("path.periods", path.periods, "must be a whole number from 1 to 200")
+    elif isinstance(path, StraightPath):
+        _positive(design, "path.length", path.length)
+    elif isinstance(path, SegmentsPath):
+        _check_pieces(design, path)
     elif isinstance(path, ChambersPath):
         if not 1 <= path.count <= 500:
             raise DesignError("path.count", path.count, "must be a whole number from 1 to 500")
@@ -105,6 +125,68 @@ def _check_path(design: Design) -> None:
                 _fmt(design, path.chamber_width),
                 f"must be wider than the channel (section.width = {_fmt(design, w)})",
             )
+
+
+CLEARANCE_SLACK = 0.01
+"""The sampled clearance test of ``segments`` paths passes runs down to 1 % under the required
+distance (sampling and the slight tilt of neighbouring spiral turns; common practice, no source)."""
+
+
+def _check_pieces(design: Design, path: SegmentsPath) -> None:
+    """Each piece by the family rules it shares (bend radius, spiral pitch), then the whole
+    path: no run may come closer to another than the width plus a wall of MIN_WALL, or cross it."""
+    w = design.section.width
+    for i, piece in enumerate(path.segments):
+        key = f"path.segments[{i}]"
+        if isinstance(piece, LinePiece):
+            _positive(design, f"{key}.line", piece.length)
+        elif isinstance(piece, ArcPiece):
+            _bend_radius(design, f"{key}.arc", piece.radius)
+            if not 0 < abs(piece.angle) < 360:
+                raise DesignError(f"{key}.angle", Shown(f"{piece.angle:g} deg"),
+                                  "must be non-zero and lie in (-360, 360) degrees (> 0 turns left, < 0 right)")
+        else:
+            _bend_radius(design, f"{key}.spiral", piece.radius)
+            need = w * (1 + MIN_WALL)
+            if not piece.pitch >= need:
+                raise DesignError(f"{key}.pitch", _fmt(design, piece.pitch),
+                                  f"must be at least the width plus a wall of {MIN_WALL:.0%} of it ({_fmt(design, need)}) "
+                                  "so that neighbouring turns do not touch")
+            if not 0 < abs(piece.turns) <= 50:
+                raise DesignError(f"{key}.turns", Shown(f"{piece.turns:g}"), "must be non-zero and lie in [-50, 50] (> 0 turns left)")
+    _check_clearance(design, path)
+
+
+def _check_clearance(design: Design, path: SegmentsPath) -> None:
+    from chanmesh.geometry.centerline import centerline_of
+    from chanmesh.geometry.clearance import close_runs
+
+    w = design.section.width
+    need = w * (1 + MIN_WALL)
+    line = centerline_of(design)
+    hit = close_runs(line, need * (1 - CLEARANCE_SLACK), w / 8)
+    if hit is None:
+        return
+    lead = 1 if path.inlet_length > 0 else 0
+
+    def name(seg: int) -> str:
+        k = seg - lead
+        if k < 0:
+            return "path.inlet_length"
+        if k >= len(path.segments):
+            return "path.outlet_length"
+        return f"path.segments[{k}]"
+
+    first, second = name(hit.segment1), name(hit.segment2)
+    gap = Shown(f"{hit.distance / design.scale:.3g} {design.unit}")
+    raise DesignError(
+        second,
+        Shown(f"(a run at {hit.s2 / design.scale:.6g} {design.unit} along the path)"),
+        f"comes within {gap} (centre to centre) of {'itself' if first == second else first} "
+        f"at {hit.s1 / design.scale:.6g} {design.unit}; runs must stay at least {_fmt(design, need)} apart "
+        f"(the width plus a wall of {MIN_WALL:.0%} of it) and must not cross: lengthen the straights, "
+        "open the bends or turn the other way",
+    )
 
 
 def _bend_radius(design: Design, key: str, radius: float) -> None:
@@ -139,7 +221,7 @@ def _check_mesh(design: Design) -> None:
         raise DesignError("mesh.cells_across", m.cells_across, "must be a whole number from 1 to 2000 (core cells across the width)")
     if m.cells_high is not None and not 1 <= m.cells_high <= 2000:
         raise DesignError("mesh.cells_high", m.cells_high, "must be a whole number from 1 to 2000 (core cells over the height)")
-    if not 1.0 <= m.wall_ratio <= 3.0:
+    if not 1.0 <= m.wall_ratio <= MAX_WALL_RATIO:
         raise DesignError("mesh.wall_ratio", m.wall_ratio, "must lie in [1, 3] (1 = uniform cells)")
     if m.first_cell is not None:
         _positive(design, "mesh.first_cell", m.first_cell)
@@ -154,12 +236,12 @@ def _check_mesh(design: Design) -> None:
                 f"must be at most the core cell ({_fmt(design, core)} = the smaller of width / cells_across "
                 "and height / cells_high): the wall cell grows toward the core, never shrinks",
             )
-        if m.first_cell < core * 1e-4:
+        if m.first_cell < core * MIN_FIRST_CELL:
             raise DesignError(
                 "mesh.first_cell",
                 _fmt(design, m.first_cell),
-                f"must be at least 1e-4 of the core cell ({_fmt(design, core)}); a smaller wall cell needs "
-                "more than ~50 wall layers",
+                f"must be at least {MIN_FIRST_CELL:g} of the core cell ({_fmt(design, core)}): a smaller wall cell "
+                "needs dozens of wall layers (raise first_cell, or refine the core with cells_across / cells_high)",
             )
     if m.cells_along is not None and not 1 <= m.cells_along <= 10_000_000:
         raise DesignError("mesh.cells_along", m.cells_along, "must be a whole number from 1 to 10000000")

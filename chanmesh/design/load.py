@@ -17,6 +17,10 @@ from typing import Any, Callable
 
 from chanmesh.design.model import (
     PATH_KINDS,
+    ArcPiece,
+    LinePiece,
+    Piece,
+    SpiralPiece,
     Design,
     Fabrication,
     FlowSpec,
@@ -25,7 +29,7 @@ from chanmesh.design.model import (
     Section,
 )
 from chanmesh.errors import MISSING, DesignError
-from chanmesh.units import length_unit, parse_flow_rate, parse_length, parse_temperature, parse_velocity
+from chanmesh.units import finite_length, length_unit, parse_flow_rate, parse_length, parse_temperature, parse_velocity
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -40,6 +44,11 @@ class Key:
     read: Callable[[str, Any, float], Any]
     required: bool = False
     default: Any = None
+
+
+MAX_LIST = 1000
+"""Longest list a design key takes (sections, split fractions, particle sizes): each section is
+a surface in the mesh, so thousands would be a slip, and a bound keeps refusals fast."""
 
 
 # --- readers: (full key, raw value, metres per design unit) -> value ---------------------------
@@ -57,7 +66,7 @@ def read_length(key: str, raw: Any, scale: float) -> float:
     """A length in design units (a plain number) or with its own unit (``'1.5mm'``)."""
     if isinstance(raw, str):
         return parse_length(key, raw)
-    return _number(key, raw) / round(1.0 / scale)
+    return finite_length(key, raw, _number(key, raw) / round(1.0 / scale))
 
 
 def read_float(key: str, raw: Any, scale: float) -> float:
@@ -87,12 +96,16 @@ def read_str(key: str, raw: Any, scale: float) -> str:
 def read_float_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of numbers, e.g. [0.3, 0.7]")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} values)", f"may list at most {MAX_LIST} values")
     return tuple(_number(f"{key}[{i}]", v) for i, v in enumerate(raw))
 
 
 def read_length_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of lengths, e.g. [7, 15] or ['7um', '15um']")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} values)", f"may list at most {MAX_LIST} values")
     return tuple(read_length(f"{key}[{i}]", v, scale) for i, v in enumerate(raw))
 
 
@@ -100,10 +113,52 @@ def read_station_list(key: str, raw: Any, scale: float) -> tuple[Any, ...]:
     """Stations stay as written (fraction, ``'12.5mm'``, ``'90deg'``, ``'turn=2.25'``)."""
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of stations, e.g. [0.25, 0.5, '90deg']")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} stations)", f"may list at most {MAX_LIST} stations")
     for i, v in enumerate(raw):
         if isinstance(v, bool) or not isinstance(v, (int, float, str)):
             raise DesignError(f"{key}[{i}]", v, "must be a fraction, a length with unit, or an angle")
     return tuple(raw)
+
+
+PIECE_KEYS: dict[str, tuple[str, ...]] = {"line": (), "arc": ("angle",), "spiral": ("pitch", "turns")}
+"""Each piece of a ``segments`` path: its kind key (the length or radius) and the keys it needs."""
+MAX_PIECES = 1000
+
+
+def read_pieces(key: str, raw: Any, scale: float) -> tuple[Piece, ...]:
+    """``[{ line = L }, { arc = R, angle = A }, { spiral = r0, pitch = p, turns = n }, ...]``."""
+    example = "e.g. [{ line = 1000 }, { arc = 500, angle = 180 }, { arc = 300, angle = -180 }]"
+    if not isinstance(raw, list) or not raw:
+        raise DesignError(key, raw, f"must be a non-empty list of pieces, {example}")
+    if len(raw) > MAX_PIECES:
+        raise DesignError(key, f"{len(raw)} pieces", f"may have at most {MAX_PIECES} pieces")
+    out: list[Piece] = []
+    for i, item in enumerate(raw):
+        where = f"{key}[{i}]"
+        if not isinstance(item, dict):
+            raise DesignError(where, item, f"must be a table such as {{ line = 1000 }} or {{ arc = 500, angle = 90 }}")
+        kinds = [k for k in PIECE_KEYS if k in item]
+        if len(kinds) != 1:
+            raise DesignError(where, item, "must hold exactly one of 'line' (a length), 'arc' (a radius, with 'angle') "
+                              "or 'spiral' (a start radius, with 'pitch' and 'turns')")
+        kind = kinds[0]
+        allowed = [kind, *PIECE_KEYS[kind]]
+        for k in item:
+            if k not in allowed:
+                raise _unknown(f"{where}.{k}", allowed)
+        for k in PIECE_KEYS[kind]:
+            if k not in item:
+                raise DesignError(f"{where}.{k}", MISSING, f"is required for an {kind!r} piece")
+        size = read_length(f"{where}.{kind}", item[kind], scale)
+        if kind == "line":
+            out.append(LinePiece(size))
+        elif kind == "arc":
+            out.append(ArcPiece(size, _number(f"{where}.angle", item["angle"])))
+        else:
+            out.append(SpiralPiece(size, read_length(f"{where}.pitch", item["pitch"], scale),
+                                   _number(f"{where}.turns", item["turns"])))
+    return tuple(out)
 
 
 def _rate(key: str, raw: Any, scale: float) -> float:
@@ -147,6 +202,8 @@ PATH_KEYS: dict[str, dict[str, Key]] = {
         "straight": Key(read_length, required=True),
         "periods": Key(read_int, required=True),
     },
+    "straight": {"length": Key(read_length, required=True)},
+    "segments": {"segments": Key(read_pieces, required=True)},
     "chambers": {
         "count": Key(read_int, required=True),
         "chamber_length": Key(read_length, required=True),
@@ -285,23 +342,37 @@ def _section(sec: dict[str, Any]) -> Section:
     raise DesignError("section.shape", shape, "must be 'rectangle' or 'trapezoid'")
 
 
+MAX_DESIGN_BYTES = 1_000_000
+"""Largest design file read (a design is a few hundred bytes; a megabyte holds thousands of
+stations). Checked before parsing, so a huge file is refused at once."""
+
+
 def parse_design_text(text: str, source: str = "<design>") -> dict[str, Any]:
     """Parse design text (TOML) into plain data, unchecked (a sweep varies this dict)."""
+    if len(text) > MAX_DESIGN_BYTES:
+        raise DesignError(source, f"({len(text):,} characters)", f"is too large for a design file (at most {MAX_DESIGN_BYTES:,})")
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError(source, "(not TOML)", f"is not a valid TOML design file: {exc}") from None
+    except RecursionError:  # tomllib parses nested arrays recursively
+        raise DesignError(source, "(nested too deeply)", "is not a usable design file: arrays or tables nested too deeply") from None
 
 
 def read_design_data(path: str | FsPath) -> dict[str, Any]:
     """Read a design file from disk into plain data, unchecked."""
     p = FsPath(path)
+    if p.is_dir():
+        raise DesignError("design file", str(p), "is a folder, not a design file")
     try:
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:
+            raw = fh.read(MAX_DESIGN_BYTES + 1)  # bounded: a device or a huge file cannot stall us
     except FileNotFoundError:
         raise DesignError("design file", str(p), "does not exist") from None
     except OSError as exc:
         raise DesignError("design file", str(p), f"cannot be read ({exc.strerror})") from None
+    if len(raw) > MAX_DESIGN_BYTES:
+        raise DesignError("design file", str(p), f"is larger than {MAX_DESIGN_BYTES:,} bytes; a design file is a short TOML text")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
