@@ -40,7 +40,16 @@ practice, no source)."""
 
 LIMITS = {"secondary_max": 0.05, "secondary_mean": 0.05, "flow_rate": 0.01}
 """What the default mesh is chosen to meet (issue 12): secondary maximum within 5 %, flow rate
-within 1 %; the secondary mean is held to the maximum's 5 %."""
+within 1 %; the secondary mean is held to the maximum's 5 %. Judged on the calibrated figure."""
+
+FV_FACTORS = {"secondary_max": 0.4, "secondary_mean": 0.4, "flow_rate": 2.5}
+"""Calibration (bench/resolution_calibration.py, bench/RESULTS.md): a second-order finite-volume
+solver (OpenFOAM simpleFoam) on chanmesh hex meshes of a long arc erred by about these multiples
+of the figure's error magnitude (its secondary flow converges faster than the figure's
+low-order elements, its pressure gradient slower). ``predicted_fv_error`` = factor x |error|."""
+
+LADDER = (8, 10, 12, 14, 16, 20, 24, 32)
+"""Core cells over the section's smaller side tried for the default mesh (coarsest that passes)."""
 
 WARN_ABOVE = 0.10
 """A build prints a warning line when any figure's error exceeds 10 %."""
@@ -153,13 +162,16 @@ def compute_figure(design: Design, grid: Any) -> Figure:
     on = solve_section_flow(design.section, radius, op.density, op.viscosity, op.flow_rate, grid=grid,
                             discretisation="grid", initial=None, estimate_error=False)
     t2 = time.perf_counter()
-    errors = {
-        "secondary_max": on.secondary_max / ref.secondary_max - 1.0 if ref.secondary_max > 0 else 0.0,
-        "secondary_mean": on.secondary_mean / ref.secondary_mean - 1.0 if ref.secondary_mean > 0 else 0.0,
+    curved = radius is not None
+    errors = {  # a straight duct has no secondary flow: only its flow rate is judged
+        "secondary_max": on.secondary_max / ref.secondary_max - 1.0 if curved else None,
+        "secondary_mean": on.secondary_mean / ref.secondary_mean - 1.0 if curved else None,
         "flow_rate": ref.dpds / on.dpds - 1.0,
     }
-    worst = max(abs(v) for v in errors.values())
-    passes = all(abs(errors[k]) <= LIMITS[k] for k in LIMITS)
+    judged = {k: v for k, v in errors.items() if v is not None}
+    worst = max(abs(v) for v in judged.values())
+    predicted = {k: FV_FACTORS[k] * abs(v) for k, v in judged.items()}
+    passes = all(predicted[k] <= LIMITS[k] for k in predicted)
     ref_err = (ref.error or {}).get("relative") or {}
     record = {
         "errors": errors,
@@ -168,6 +180,9 @@ def compute_figure(design: Design, grid: Any) -> Figure:
             "secondary_mean": "area-mean in-plane speed on the mesh's section grid / converged - 1",
             "flow_rate": "flow rate at the converged pressure gradient / converged - 1 (= dpds_ref / dpds_mesh - 1)",
         },
+        "predicted_fv_error": predicted,
+        "predicted_fv_error_definition": ("calibrated magnitude of a second-order finite-volume solver's error on this "
+                                          "mesh: FV_FACTORS x |error| (bench/RESULTS.md)"),
         "limits": LIMITS,
         "passes": passes,
         "warning": worst > WARN_ABOVE,
@@ -213,17 +228,56 @@ def resolution_figure(design: Design, mesh: ChannelMesh | None = None) -> dict[s
     return {k: v for k, v in fig.record.items() if not k.startswith("_")}
 
 
+def _candidate(design: Design, n: int) -> Design:
+    import dataclasses
+
+    w, H = design.section.width, design.section.height
+    core = min(w, H) / n
+    mesh = dataclasses.replace(design.mesh, cells_across=max(1, round(w / core)), cells_high=max(1, round(H / core)))
+    return dataclasses.replace(design, mesh=mesh)
+
+
+def choose_core_cells(design: Design) -> int:
+    """The coarsest of ``LADDER`` (core cells over the smaller side) whose hexahedral section grid
+    passes the calibrated figure at the design's operating point; the finest if none does."""
+    key = (design.section, design.path, design.flow, design.mesh.first_cell, design.mesh.wall_ratio)
+    if key in _CHOSEN:
+        return _CHOSEN[key]
+    lo, hi = 0, len(LADDER) - 1
+    start = LADDER.index(12)
+    verdict: dict[int, bool] = {}
+
+    def ok(i: int) -> bool:
+        if i not in verdict:
+            d = _candidate(design, LADDER[i])
+            verdict[i] = bool(compute_figure(d, plan_section_grid(d)).record["passes"])
+        return verdict[i]
+
+    i = start
+    if ok(i):  # coarser while it passes
+        while i > lo and ok(i - 1):
+            i -= 1
+    else:  # finer until it passes
+        while i < hi and not ok(i):
+            i += 1
+    _CHOSEN[key] = LADDER[i]
+    return LADDER[i]
+
+
+_CHOSEN: dict[tuple, int] = {}
+
+
 def summary_lines(record: dict[str, Any]) -> list[str]:
     """The terminal summary: one line of figures, and a warning line above ``WARN_ABOVE``."""
     if "errors" not in record:
         return [f"resolution figure: {record.get('skipped', 'not computed')}"]
-    e = record["errors"]
+    e = {k: v for k, v in record["errors"].items() if v is not None}
     op = record["operating_point"]
     de = record.get("dean")
-    where = f"at {op['flow_rate_mL_min']:.3g} mL/min" + (f", De {de:.3g}" if de else ", straight")
-    lines = [f"resolution ({where}): secondary max {e['secondary_max']:+.1%}, secondary mean "
-             f"{e['secondary_mean']:+.1%}, flow rate {e['flow_rate']:+.2%} against the converged section flow"
-             + ("" if record["passes"] else " (outside 5 % / 1 %)")]
+    where = f"at {op['flow_rate_mL_min']:.3g} mL/min" + (f", De {de:.3g}" if de else ", straight duct")
+    figures = ", ".join(f"{k.replace('_', ' ')} {v:+.2%}" for k, v in e.items())
+    lines = [f"resolution ({where}): {figures} against the converged section flow"
+             + ("" if record["passes"] else " (a finite-volume solver would miss 5 % / 1 %: docs/resolution.md)")]
     if record["warning"]:
         worst = max(e, key=lambda k: abs(e[k]))
         lines.append(f"warning: this mesh misses the developed section flow by {abs(e[worst]):.0%} ({worst.replace('_', ' ')}); "

@@ -130,8 +130,8 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
 
 DEFAULT_CORE_CELLS = 16
 """Core cells over the smaller side of the section when neither ``cells_across`` nor
-``cells_high`` is given (the core cell is min(width, height) / 16). Chosen so that the default
-hexahedral mesh passes the resolution figure (docs/resolution.md); see ``default_core_cells``."""
+``cells_high`` is given and the section flow cannot be solved (normally ``default_core_cells``
+chooses them from the section flow: docs/resolution.md)."""
 
 WALL_DIVISIONS = 32
 """Default wall cell: min(width, height) / 32, or half the smaller core cell if that is larger
@@ -226,8 +226,18 @@ def resolution_of(design: Design) -> Resolution:
 
 
 def default_core_cells(design: Design) -> int:
-    """Core cells over the section's smaller side when the design gives no count."""
-    return DEFAULT_CORE_CELLS
+    """Core cells over the section's smaller side when the design gives no count: the coarsest
+    hexahedral section grid that passes the resolution figure at the design's operating point
+    (``chanmesh.resolution.choose_core_cells``); ``DEFAULT_CORE_CELLS`` when the section flow
+    cannot be solved there."""
+    from chanmesh.errors import ChanmeshError
+
+    try:
+        from chanmesh.resolution import choose_core_cells
+
+        return choose_core_cells(design)
+    except (ChanmeshError, ImportError):  # no section flow here (not converged, not installed)
+        return DEFAULT_CORE_CELLS
 
 
 def grading_of(design: Design, scale: float = 1.0) -> Grading:

@@ -222,7 +222,7 @@ MESH_KEYS: dict[str, Key] = {
     "first_cell": Key(read_length),
     "cells_high": Key(read_int),
     "cells_along": Key(read_int),
-    "along_aspect": Key(read_float, default=2.0),
+    "along_aspect": Key(read_float, default=6.0),
     "max_cells": Key(read_int, default=5_000_000),
     "sections": Key(read_station_list, default=()),
     "threads": Key(read_int, default=1),

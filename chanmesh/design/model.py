@@ -188,7 +188,7 @@ class MeshSpec:
     first_cell: float | None = None  # metres; wall-adjacent cell on every wall (None: default)
     cells_high: int | None = None  # core cell over the height = height / cells_high
     cells_along: int | None = None
-    along_aspect: float = 2.0
+    along_aspect: float = 6.0
     max_cells: int = 5_000_000
     sections: tuple[Any, ...] = ()
     threads: int = 1  # gmsh threads; 1 gives byte-identical meshes run to run (docs/robustness.md)
