@@ -261,11 +261,33 @@ def figure_rows(rows: dict[int, dict]) -> dict[int, dict]:
 
     out = {}
     for n in rows:
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), time.process_time()
         fig = resolution_figure(loads_design(design_text(n)))
-        fig["time_s"] = time.perf_counter() - t0
+        fig["time_s"], fig["cpu_s"] = time.perf_counter() - t0, time.process_time() - c0
         out[n] = fig
     return out
+
+
+def calibration(rows: dict[int, dict], ref: dict, figs: dict[int, dict]) -> None:
+    """Fit FV error / figure error on the secondary maximum (geometric mean over the grids whose
+    wall layers do not meet, cells_high >= 8), check the factor of two and the ranking."""
+    from chanmesh.resolution import FV_FACTORS
+
+    ns = [n for n in rows if n in figs]
+    fv = {n: abs(rows[n]["section"]["secondary_max"] / ref["secondary_max"][0] - 1) for n in ns}
+    fg = {n: abs(figs[n]["errors"]["secondary_max"]) for n in ns}
+    fit = [n for n in ns if n >= 8]
+    factor = math.exp(np.mean([math.log(fv[n] / fg[n]) for n in fit]))
+    print(f"\nsecondary max: fitted FV/figure factor {factor:.3f} over cells_high {fit} "
+          f"(chanmesh.resolution.FV_FACTORS uses {FV_FACTORS['secondary_max']})")
+    for n in ns:
+        pred = FV_FACTORS["secondary_max"] * fg[n]
+        print(f"  cells_high {n:>2}: FV {fv[n]:.2%}, predicted {pred:.2%}, ratio {max(pred, fv[n]) / min(pred, fv[n]):.2f}")
+    order_fv = sorted(ns, key=lambda n: fv[n])
+    order_fig = sorted(ns, key=lambda n: fg[n])
+    worst_fig = {n: max(FV_FACTORS[k] * abs(v) for k, v in figs[n]["errors"].items() if v is not None) for n in ns}
+    print(f"  ranking by FV secondary-max error: {order_fv}; by the figure's: {order_fig}; "
+          f"by the worst calibrated figure: {sorted(ns, key=lambda n: worst_fig[n])}")
 
 
 def main() -> None:
@@ -282,9 +304,16 @@ def main() -> None:
     ref = {k: richardson([rows[n]["section"][k] for n in heights], h) for k in keys}
     print("\n3D reference (Richardson, finest grids): " + ", ".join(
         f"{k} {v:.6g} (order {p:.2f})" for k, (v, p) in ref.items()))
-    figs = {} if args.no_figure else figure_rows(rows)
+    cached = args.out / "figures.json"
+    if args.no_figure:
+        figs = {}
+    elif cached.exists():
+        figs = {int(k): v for k, v in json.loads(cached.read_text()).items()}
+    else:
+        figs = figure_rows(rows)
+        cached.write_text(json.dumps(figs, indent=1, default=float))
     print("\n| cells_high | section cells | 3D cells | iterations | solve s | developed (135 vs 157.5 deg) | FV err sec. max | "
-          "figure sec. max | FV err sec. mean | figure sec. mean | FV err flow (at fixed dp/ds) | figure flow | figure s |")
+          "figure sec. max | FV err sec. mean | figure sec. mean | FV err flow (at fixed dp/ds) | figure flow | figure CPU s |")
     print("|---|---|---|---|---|---|---|---|---|---|---|---|---|")
     for n in heights:
         s = rows[n]["section"]
@@ -295,7 +324,9 @@ def main() -> None:
         fe = {k: f.get("errors", {}).get(k, float("nan")) for k in ("secondary_max", "secondary_mean", "flow_rate")}
         print(f"| {n} | {s['cells']} | {rows[n]['cells']:,} | {rows[n]['iterations']} | {rows[n]['solve_time_s']:.0f} | {dev:.2%} | "
               f"{err['secondary_max']:+.2%} | {fe['secondary_max']:+.2%} | {err['secondary_mean']:+.2%} | "
-              f"{fe['secondary_mean']:+.2%} | {err['dpds']:+.2%} | {fe['flow_rate']:+.2%} | {f.get('time_s', float('nan')):.2f} |")
+              f"{fe['secondary_mean']:+.2%} | {err['dpds']:+.2%} | {fe['flow_rate']:+.2%} | {f.get('cpu_s', float('nan')):.2f} |")
+    if figs:
+        calibration(rows, ref, figs)
     (args.out / "table.json").write_text(json.dumps({"rows": rows, "reference": ref, "figures": figs}, indent=2, default=float))
 
 

@@ -42,11 +42,14 @@ LIMITS = {"secondary_max": 0.05, "secondary_mean": 0.05, "flow_rate": 0.01}
 """What the default mesh is chosen to meet (issue 12): secondary maximum within 5 %, flow rate
 within 1 %; the secondary mean is held to the maximum's 5 %. Judged on the calibrated figure."""
 
-FV_FACTORS = {"secondary_max": 0.4, "secondary_mean": 0.4, "flow_rate": 2.5}
+FV_FACTORS = {"secondary_max": 0.28, "secondary_mean": 1.0, "flow_rate": 2.5}
 """Calibration (bench/resolution_calibration.py, bench/RESULTS.md): a second-order finite-volume
 solver (OpenFOAM simpleFoam) on chanmesh hex meshes of a long arc erred by about these multiples
-of the figure's error magnitude (its secondary flow converges faster than the figure's
-low-order elements, its pressure gradient slower). ``predicted_fv_error`` = factor x |error|."""
+of the figure's error magnitude. Secondary maximum: 0.28, the geometric-mean fit over 8-24 core
+cells over the height (every grid within a factor of two). Flow rate: 2.5, provisional, from
+the 8-16 grids (the solver's pressure-gradient readout scatters by 1-2 %). Secondary mean: 1,
+uncalibrated (the solver's mean was not in its asymptotic range). ``predicted_fv_error`` =
+factor x |error|."""
 
 LADDER = (8, 10, 12, 14, 16, 20, 24, 32)
 """Core cells over the section's smaller side tried for the default mesh (coarsest that passes)."""
@@ -104,10 +107,12 @@ def mesh_section_grid(design: Design, mesh: ChannelMesh) -> Any:
     from chanmesh.flow import SectionGrid
     from chanmesh.geometry.centerline import centerline_of
 
-    blocks = mesh.facets_of("inlet")
+    names = [g.name for g in mesh.groups if g.dim == 2 and (g.name == "inlet" or g.name.startswith("inlet_"))]
+    blocks = [b for name in names for b in mesh.facets_of(name) if len(b.cells)]  # split inlets: one section
     if not blocks:
         raise ChanmeshError("resolution figure: the mesh has no inlet facets")
-    cells = np.concatenate([b.cells for b in blocks]) if len({b.cells.shape[1] for b in blocks}) == 1 else blocks[0].cells
+    width = max(b.cells.shape[1] for b in blocks)
+    cells = np.concatenate([b.cells for b in blocks if b.cells.shape[1] == width])
     used, local = np.unique(cells, return_inverse=True)
     line = centerline_of(design)
     p0, n0 = line.points(np.array([0.0]))[0], line.normals(np.array([0.0]))[0]

@@ -32,13 +32,15 @@ def test_starters_load_and_document_every_table(family):
 def test_new_then_build_writes_the_default_formats(tmp_path, capsys):
     design = tmp_path / "s.toml"
     assert main(["new", "arc"]) == 0
-    text = capsys.readouterr().out.replace("cells_across = 8 ", "cells_across = 4 ")
+    text = capsys.readouterr().out.replace("# cells_high = 14 ", "cells_high = 3 ")  # coarse, to keep the test small
+    assert "\ncells_high = 3 " in text
     design.write_text(text)
     out = tmp_path / "out"
     assert main(["build", str(design), "--out", str(out)]) == 0
     captured = capsys.readouterr()
-    for stage in ("geometry", "meshing", "writing"):
+    for stage in ("nodes", "cells", "writing", "report"):  # the hexahedral mesher's stages (the default)
         assert stage in captured.err
+    assert "resolution (at" in captured.out  # the resolution figure's summary line
     names = {p.name for p in out.iterdir()}
     assert {"my-bend.msh", "my-bend.xdmf", "my-bend.h5", "my-bend.vtu", "manifest.json"} <= names
     manifest = json.loads((out / "manifest.json").read_text())

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import sys
 from pathlib import Path
 
 from chanmesh.build import build
@@ -85,12 +84,9 @@ def run(args: argparse.Namespace) -> int:
         for g in m["groups"]:
             err = f"  (analytic {g['relative_error']:+.2e})" if "relative_error" in g else ""
             print(f"  {g['name']:<10} dim {g['dim']}  tag {g['tag']:<3} {g['entities']:>9,} entities  {g['measured']:.6e} {g['unit']}{err}")
-    if "resolution" in result.manifest:
+    if "resolution" in result.manifest and not args.quiet:  # --quiet: the manifest and report still say it
         from chanmesh.resolution import summary_lines
 
         for line in summary_lines(result.manifest["resolution"]):
-            if not args.quiet:
-                print(line)
-            elif line.startswith("warning"):  # --quiet keeps the warning, on stderr
-                print(line, file=sys.stderr)
+            print(line)
     return 0

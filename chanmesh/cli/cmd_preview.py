@@ -1,8 +1,9 @@
 """``chanmesh preview DESIGN --out DIR``: pictures of a design without writing any mesh files.
 
 Writes ``<name>.plan.png`` (the plan view to scale, with scale bar, port arrows and section
-ticks) and ``<name>.mesh.png`` (the mesh in 3D, one colour per group, with a legend). The mesh
-is built in memory only; ``--plan-only`` skips it.
+ticks), ``<name>.mesh.png`` (the mesh in 3D, one colour per group, with a legend) and
+``<name>.section.png`` (the section mesh, every cell edge drawn, walls labelled). The mesh is
+built in memory only; ``--plan-only`` skips both mesh pictures.
 """
 
 from __future__ import annotations
@@ -57,6 +58,11 @@ def run(args: argparse.Namespace) -> int:
         mesh = mesher_for(design).mesh(design)
         check_boundary_tagging(mesh)
         written.append(atomic_write_bytes(out / f"{design.name}.mesh.png", mesh_picture(mesh, design, width, height, args.engine)))
+        from chanmesh.report.section_view import section_mesh_png
+        from chanmesh.resolution import bend_radius, mesh_section_grid
+
+        section = section_mesh_png(design, mesh_section_grid(design, mesh), bend_radius(design), width, max(height // 2, 260))
+        written.append(atomic_write_bytes(out / f"{design.name}.section.png", section))
     for path in written:
         print(path)
     return 0

@@ -87,8 +87,8 @@ def _panel(ax: Any, flow: Any, levels: np.ndarray, title: str, arrows: int = 18)
     gx, gy = np.meshgrid(np.linspace(lo[0], hi[0], nx + 2)[1:-1], np.linspace(lo[1], hi[1], ny + 2)[1:-1])
     su = LinearTriInterpolator(tri, flow.secondary_u)(gx, gy)
     sz = LinearTriInterpolator(tri, flow.secondary_z)(gx, gy)
-    ax.quiver(gx, gy, su, sz, color="#8C2D2D", scale=flow.secondary_max * max(nx, 1) * 0.9,
-              width=0.004)
+    if flow.secondary_max > 0:  # a grid without interior nodes has no secondary flow to draw
+        ax.quiver(gx, gy, su, sz, color="#8C2D2D", scale=flow.secondary_max * max(nx, 1) * 0.9, width=0.004)
     ax.set_aspect("equal")
     ax.set_title(title, fontsize=10, color=INK)
     ax.set_xlabel("u (µm)")
