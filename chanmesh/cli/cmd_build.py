@@ -6,12 +6,13 @@ import argparse
 import dataclasses
 from pathlib import Path
 
-from chanmesh.build import build
-from chanmesh.design import Design, load_design
-from chanmesh.design.checks import check_design
-from chanmesh.progress import StageClock
+from typing import TYPE_CHECKING
+
 from chanmesh.units import parse_length
 from chanmesh.writers import DEFAULT_FORMATS, FORMATS, WriteOptions
+
+if TYPE_CHECKING:
+    from chanmesh.design import Design
 
 FABRICATION_LENGTHS = ("mould_margin", "base_thickness", "port_diameter")
 
@@ -50,6 +51,8 @@ def add_format_arguments(p: argparse.ArgumentParser) -> None:
 
 def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Design:
     """The design with any --mould-margin, --base-thickness, --port-diameter, --dxf-unit applied."""
+    from chanmesh.design.checks import check_design
+
     changes: dict[str, object] = {}
     for key in FABRICATION_LENGTHS:
         text = getattr(args, key, None)
@@ -69,6 +72,10 @@ def write_options(args: argparse.Namespace) -> WriteOptions:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.build import build
+    from chanmesh.design import load_design
+    from chanmesh.progress import StageClock
+
     design = with_fabrication_overrides(load_design(args.design), args)
     out = args.out or Path("out") / design.name
     clock = StageClock(quiet=args.quiet)

@@ -6,12 +6,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from chanmesh.design.load import load_design
 from chanmesh.errors import DesignError
-from chanmesh.post.cut import cut
-from chanmesh.post.cut_io import write_cut
-from chanmesh.post.result_file import read_result
-from chanmesh.post.stations import station_frame
 
 NAME = "cut"
 HELP = "sample a result's velocity on the exact section at a station: streamwise and secondary flow"
@@ -29,6 +24,12 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import load_design
+    from chanmesh.post.cut import cut
+    from chanmesh.post.cut_io import write_cut
+    from chanmesh.post.result_file import read_result
+    from chanmesh.post.stations import station_frame
+
     design = load_design(args.design)
     if not 4 <= args.resolution <= 2000:
         raise DesignError("--resolution", args.resolution, "must be a whole number from 4 to 2000")

@@ -7,9 +7,7 @@ import argparse
 import dataclasses
 from typing import Any
 
-from chanmesh.design.load import load_design
 from chanmesh.errors import DesignError
-from chanmesh.numbers import design_numbers, render, write_json
 from chanmesh.units import parse_flow_rate, parse_length, parse_temperature, parse_velocity, split_quantity
 
 NAME = "numbers"
@@ -80,6 +78,9 @@ def overrides(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import load_design
+    from chanmesh.numbers import design_numbers, render, write_json
+
     design = load_design(args.design)
     flow = dataclasses.replace(design.flow, **overrides(args))
     numbers = design_numbers(design, flow)

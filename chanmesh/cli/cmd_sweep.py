@@ -8,11 +8,8 @@ import signal
 from pathlib import Path
 
 from chanmesh.cli.cmd_build import add_format_arguments, write_options
-from chanmesh.design.load import design_from_dict, read_design_data
 from chanmesh.errors import DesignError
-from chanmesh.family import MAX_LEVELS
-from chanmesh.sweep.plan import apply, combine, parse_vary
-from chanmesh.sweep.run import SweepRequest, run_sweep
+from chanmesh.family_limits import MAX_LEVELS
 
 NAME = "sweep"
 HELP = "build every variant of a design (--vary KEY=a:b:n or KEY=v1,v2) on dask; resumable; summary.csv"
@@ -37,6 +34,10 @@ def _terminate_as_interrupt(signum: int, frame: object) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import design_from_dict, read_design_data
+    from chanmesh.sweep.plan import apply, combine, parse_vary
+    from chanmesh.sweep.run import SweepRequest, run_sweep
+
     data = read_design_data(args.design)
     base = design_from_dict(data)  # the design itself must be valid before it is varied
     if not args.vary:

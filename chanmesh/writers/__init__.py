@@ -10,10 +10,11 @@ from __future__ import annotations
 import importlib
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-from chanmesh.design.model import Design
-from chanmesh.meshing.model import ChannelMesh
+if TYPE_CHECKING:  # the registry stays light: the command line reads it for --help
+    from chanmesh.design.model import Design
+    from chanmesh.meshing.model import ChannelMesh
 
 
 @dataclass(frozen=True)
