@@ -13,7 +13,7 @@ from chanmesh.cli import main
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
-from chanmesh.post.stations import station_arc_length, station_arc_lengths, station_frame
+from chanmesh.geometry.stations import station_arc_length, station_arc_lengths, station_frame
 
 ARC = """name = "a"
 unit = "um"

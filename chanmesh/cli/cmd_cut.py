@@ -28,7 +28,7 @@ def run(args: argparse.Namespace) -> int:
     from chanmesh.post.cut import cut
     from chanmesh.post.cut_io import write_cut
     from chanmesh.post.result_file import read_result
-    from chanmesh.post.stations import station_frame
+    from chanmesh.geometry.stations import station_frame
 
     design = load_design(args.design)
     if not 4 <= args.resolution <= 2000:

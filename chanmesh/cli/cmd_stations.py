@@ -8,16 +8,14 @@ import dataclasses
 import json
 import math
 from pathlib import Path
-from typing import Any
-
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from chanmesh.design.model import Design, FlowSpec
 from chanmesh.errors import DesignError
 from chanmesh.units import parse_flow_rate, parse_velocity
 
 if TYPE_CHECKING:
-    from chanmesh.post.stations import StationFrame
+    from chanmesh.geometry.stations import StationFrame
 
 NAME = "stations"
 HELP = "list the centreline point, tangent and section frame (and Dean number) at stations"
@@ -64,7 +62,7 @@ def run(args: argparse.Namespace) -> int:
     from chanmesh.design.load import load_design
     from chanmesh.geometry.centerline import centerline_of
     from chanmesh.numbers.regime import DEAN_DEFINITION
-    from chanmesh.post.stations import station_frame
+    from chanmesh.geometry.stations import station_frame
     from chanmesh.safeio import atomic_write_text
 
     design = load_design(args.design)
