@@ -15,7 +15,6 @@ output is cleaned up, and ``main`` turns it into the same line and 130.
 
 from __future__ import annotations
 
-import argparse
 import importlib
 import os
 import pkgutil
@@ -25,6 +24,7 @@ import threading
 from types import ModuleType
 
 from chanmesh import __version__
+from chanmesh.cli.argtypes import OneLineParser
 from chanmesh.errors import ChanmeshError
 from chanmesh.interrupt import EXIT_INTERRUPT, quit_now
 
@@ -40,8 +40,8 @@ def _commands() -> list[ModuleType]:
     return sorted(mods, key=lambda m: getattr(m, "ORDER", 50))
 
 
-def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+def build_parser() -> OneLineParser:
+    parser = OneLineParser(
         prog="chanmesh",
         description="Labelled, wall-graded 3D meshes of curved microchannels from a design file.",
     )
