@@ -50,7 +50,7 @@ def _child(cells: float) -> dict:
 
     base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0
     design = loads_design(SPIRAL)
-    scale = scale_for(cells)
+    scale = scale_for(cells * 1e6)
     t = time.perf_counter()
     mesh = mesher_for(design).mesh(design, scale=scale)
     t_mesh = time.perf_counter() - t
