@@ -11,11 +11,8 @@ The package is layered (see DEVELOPERS.md):
 * ``cli``      -- the ``chanmesh`` command, one module per subcommand.
 """
 
-from chanmesh.interrupt import install_early
-
-install_early()  # first: a Ctrl-C during the imports below exits 130 with one line (interrupt.py)
-
-from chanmesh.errors import ChanmeshError, DesignError, MeshFileError  # noqa: E402
+import chanmesh.interrupt  # noqa: F401  first: a Ctrl-C during the imports below exits 130 with one line
+from chanmesh.errors import ChanmeshError, DesignError, MeshFileError
 
 __version__ = "0.1.0"
 

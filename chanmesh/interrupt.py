@@ -5,11 +5,13 @@ print a traceback. Until the command runs (and can clean up after itself), chanm
 ``quit_now`` instead: nothing has been written yet, so there is nothing to undo. The
 command line (``cli.main``) switches back to ``KeyboardInterrupt`` once the command runs.
 
-Standard library only: this module is imported first, before anything heavy.
+Standard library only: this module is imported first, before anything heavy, and installs
+the handler as it is imported (``install_early`` at the bottom).
 """
 
 from __future__ import annotations
 
+import _signal  # the C function itself: no Python-level window inside signal.signal
 import os
 import signal
 import sys
@@ -36,4 +38,7 @@ def started_as_command() -> bool:
 def install_early() -> None:
     """Install ``quit_now`` when started as the command, from the main thread."""
     if started_as_command() and threading.current_thread() is threading.main_thread():
-        signal.signal(signal.SIGINT, quit_now)
+        _signal.signal(signal.SIGINT, quit_now)
+
+
+install_early()  # at import, so that the handler is in place when this module's import ends
