@@ -55,3 +55,14 @@ def test_dean_range_and_errors(write_design, tmp_path, capsys):
         err = capsys.readouterr().err.strip().splitlines()
         assert len(err) == 1 and word in err[0]
     assert not (tmp_path / "bad" / "dean.json").exists()
+
+
+def test_numbers_reports_computed_secondary_speed_beside_the_correlation(write_design, capsys):
+    """The computed speed and the Ookawara et al. (2004) correlation are both printed, each named."""
+    design = write_design("arc", flow={"velocity": "0.3m/s"})
+    assert main(["numbers", str(design)]) == 0
+    text = capsys.readouterr().out
+    assert "computed (fully developed section flow at bend" in text
+    assert "correlation (Ookawara et al. 2004) there" in text
+    assert main(["numbers", str(design), "--no-section-flow"]) == 0
+    assert "computed (fully developed" not in capsys.readouterr().out
