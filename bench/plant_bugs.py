@@ -57,6 +57,23 @@ PLANTS = [
           "    de = dean_number(reynolds, hydraulic_diameter, station.curvature_radius)",
           "    de = dean_number(reynolds, hydraulic_diameter, station.radius)",
           ("tests/test_numbers_regime.py",)),
+    # --- five more, in code the other open issues added ------------------------------------
+    Plant("section flow: flow-rate constraint integrates 1 % too much", "chanmesh/flow/equations.py",
+          '    local = np.einsum("ieq,eq->ie", t.phi, t.dx)', '    local = np.einsum("ieq,eq->ie", t.phi, 1.01 * t.dx)',
+          ("tests/test_flow_section.py", "tests/test_flow_dean_by_hand.py")),
+    Plant("section flow: centrifugal force reversed in the residual", "chanmesh/flow/equations.py",
+          "- kappa * ut * ut)", "+ kappa * ut * ut)",
+          ("tests/test_flow_section.py",)),
+    Plant("section flow: Dean number on twice the bend radius", "chanmesh/flow/solve.py",
+          "de = None if radius is None else dean_number(re, L, abs(radius))",
+          "de = None if radius is None else dean_number(re, L, 2 * abs(radius))",
+          ("tests/test_flow_section.py", "tests/test_flow_dean_by_hand.py")),
+    Plant("section flow: vortex senses swapped", "chanmesh/flow/result.py",
+          '((1.0, "counter-clockwise"), (-1.0, "clockwise"))', '((1.0, "clockwise"), (-1.0, "counter-clockwise"))',
+          ("tests/test_flow_section.py",)),
+    Plant("section flow: bend/straight resistance ratio inverted", "chanmesh/flow/solve.py",
+          "dpds_ratio=g / g_straight", "dpds_ratio=g_straight / g",
+          ("tests/test_flow_section.py", "tests/test_flow_dean_by_hand.py")),
 ]
 
 
