@@ -13,25 +13,12 @@ to well under 1 % of the width.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 from scipy.spatial import cKDTree
 
-from chanmesh.geometry.centerline import Arc, Centerline, Spiral
-
-
-def sample_arc_lengths(line: Centerline, spacing: float) -> np.ndarray:
-    """Arc lengths every ``spacing`` or closer, keeping every segment join (curved pieces get at
-    least 16 intervals)."""
-    out = [np.array([0.0])]
-    for seg, s0 in zip(line.segments, line.breaks[:-1]):
-        k = max(1, int(math.ceil(seg.length / spacing)))
-        if isinstance(seg, (Arc, Spiral)):
-            k = max(k, 16)
-        out.append(s0 + np.linspace(0.0, seg.length, k + 1)[1:])
-    return np.concatenate(out)
+from chanmesh.geometry.centerline import Centerline
 
 
 @dataclass(frozen=True)
@@ -97,7 +84,7 @@ def wall_contact(line: Centerline, width: float, gap: float) -> WallContact | No
     clearance ``gap``. Walls are polylines through points every width / 8 of centreline (leads,
     ports and every piece of the path included)."""
     spacing = max(width / 8, line.length / MAX_SAMPLES)
-    s = sample_arc_lengths(line, spacing)
+    s = line.samples(spacing)
     n_s = len(s)
     p = line.points(s)[:, :2]
     normal = line.normals(s)[:, :2]
