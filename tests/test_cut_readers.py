@@ -234,3 +234,26 @@ def test_openfoam_case_latest_time_and_time_option(tmp_path, capfd):
     assert data["figures"]["flow_rate_m3_s"] == pytest.approx(exact, rel=2e-3)
     assert main(["cut", str(case), *base, "--time", "5", "--out", str(tmp_path / "c5")]) == 2
     assert "--time = 5 is not a time of" in _one_line(capfd)
+
+
+@pytest.mark.parametrize("factor, warned", [(1.05, True), (1.01, False)])
+def test_flow_rate_against_the_design(case, capfd, factor, warned):
+    """[flow] velocity x section area against the section's flux of the linear field (exact:
+    area x U(centroid) . t); beyond 2 % a warning (common practice, no source)."""
+    folder, design, mesh, frame = case
+    grid = _grid(mesh)
+    grid.point_data["U"] = C0 + np.asarray(grid.points) @ M.T
+    grid.save(folder / "linear.vtu")
+    q = _linear_flux(frame)
+    velocity = factor * q / frame.outline.area
+    text = design_text("arc", name="rd", mesh={"sections": [0.5]}, flow={"velocity": f"{velocity:.9g}m/s"})
+    (folder / "rd-flow.toml").write_text(text)
+    out = folder / f"flow-{factor}"
+    assert main(["cut", str(folder / "linear.vtu"), "--design", str(folder / "rd-flow.toml"), "--at", "0.5",
+                 "--out", str(out)]) == 0
+    text_out = capfd.readouterr().out
+    expected = 1.0 / factor - 1.0
+    assert f"the section carries {100 * expected:+.2f} %" in text_out
+    assert ("WARNING: more than 2 % off" in text_out) == warned
+    check = json.loads((out / "section.json").read_text())["figures"]["design_flow"]
+    assert check["relative_difference"] == pytest.approx(expected, abs=1e-6) and check["warning"] == warned

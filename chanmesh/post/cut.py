@@ -31,6 +31,7 @@ from chanmesh.geometry.stations import StationFrame
 Z = np.array([0.0, 0.0, 1.0])
 MIN_VALID = 0.98  # fraction of sample points that must fall inside the result's cells
 VORTEX_FLOOR = 0.10  # extrema of psi below this fraction of max |psi| are noise
+REGION_FLOOR = 0.05  # vortex regions: |psi| above this fraction of its largest (round-off on zero lines would join them)
 FLOW_TOLERANCE = 0.02  # the section's flow rate against the design's [flow]: warn beyond (common practice, no source)
 PEAK_PATCH = 0.2  # the centre is fitted where |psi| is within this fraction of the region's extremum
 
@@ -222,7 +223,8 @@ def refined_max(grid: SampleGrid, f: np.ndarray) -> tuple[float, float, float]:
 
 
 def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame) -> list[dict[str, Any]]:
-    """One centre per connected region of one sign of psi: the vertex of a quadratic fitted to
+    """One centre per connected region of one sign of psi (where |psi| exceeds 5 % of its
+    largest, so regions touching only across a zero line stay apart): the vertex of a quadratic fitted to
     psi where it is within 20 % of the region's extremum (the extremum itself if that fit is not
     a peak). psi is zero on the walls (``stream_function``), so every centre is an interior
     extremum; an extremum on a wall row or column is never reported. Fitting over a patch keeps the kinks of a piecewise-linear solution from moving the
@@ -240,7 +242,7 @@ def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame) -> li
     o = frame.outline
     out = []
     for sign in (1.0, -1.0):
-        regions, count = label(sign * psi > 0)
+        regions, count = label(sign * psi > REGION_FLOOR * peak)
         for k in range(1, count + 1):
             mask = regions == k
             ext = float(np.max(sign * psi[mask]))
