@@ -149,12 +149,17 @@ def read_manifest(folder: Path) -> dict[str, Any] | None:
 
 
 def manifest_is_current(folder: Path, expected_hash: str) -> bool:
-    """True if ``folder`` holds a complete build for ``expected_hash`` whose files still match."""
+    """True if ``folder`` holds a complete build for ``expected_hash`` whose files still match:
+    every file the manifest lists exists with its recorded size and SHA-256 (a deleted,
+    truncated or altered file makes the output stale, so a sweep or family rebuilds it)."""
     m = read_manifest(folder)
     if not m or m.get("design_hash") != expected_hash:
         return False
-    for entry in m.get("files", []):
+    files = m.get("files")
+    if not isinstance(files, list):
+        return False
+    for entry in files:
         p = Path(folder) / entry["name"]
-        if not p.is_file() or p.stat().st_size != entry["bytes"]:
+        if not p.is_file() or p.stat().st_size != entry["bytes"] or file_sha256(p) != entry["sha256"]:
             return False
     return True
