@@ -32,6 +32,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--resolution", type=int, default=100, metavar="N",
                    help="sample intervals across the width, rounded up to even (default 100)")
     p.add_argument("--scale", type=float, default=1.0, help="metres per result length unit (default 1: result in metres)")
+    p.add_argument("--no-developed", action="store_true",
+                   help="skip the fully developed section flow shown beside the result (designs with [flow])")
     p.add_argument("--out", type=Path, default=None, help="output folder (default: out/<name>/cut-<station>)")
 
 
@@ -46,7 +48,8 @@ def run(args: argparse.Namespace) -> int:
     out = args.out or Path("out") / design.name / f"cut-{safe}"
     title = f"{design.name}: section at {args.at} (s = {frame.s * 1e3:.4g} mm), field {result.name}"
     c.figures["design_flow"] = design_flow_check(design, c.figures["flow_rate_m3_s"])
-    files = write_cut(c, out, title, design.name, result)
+    extra, developed_note = developed(design, c, title, args.no_developed)
+    files = write_cut(c, out, title, design.name, result, extra)
     f = c.figures
     print(f"{title}")
     print(f"  read {result.source}: {result.describe()}")
@@ -68,8 +71,43 @@ def run(args: argparse.Namespace) -> int:
         print(f"  ... and {len(vortices) - SHOWN_VORTICES} more in section.json (and section.png)")
     if not vortices:
         print("  no vortex: the in-plane stream function has no interior extremum above 10 % of its largest")
+    print(developed_note)
     cen = f["centring"]
     print(f"  centring: grid centroid {cen['grid_centroid_to_centreline_point_m']:.2e} m from the centreline point, "
           f"plane normal {cen['plane_normal_to_tangent_rad']:.2e} rad from the tangent")
     print(f"wrote {', '.join(p.name for p in files)} in {out}")
     return 0
+
+
+def developed(design, c, title: str, skip: bool) -> tuple[dict[str, bytes], str]:  # noqa: ANN001
+    """The fully developed comparison (figures into ``c.figures['developed']``), the picture to
+    write and the terminal lines."""
+    from chanmesh.post.cut_developed import compare, developed_flow, developed_reason, render_comparison_png
+
+    reason = "skipped (--no-developed)" if skip else developed_reason(design, c)
+    if reason is None:
+        from chanmesh.flow import FlowNotConverged
+
+        try:
+            sf = developed_flow(design, c)
+        except FlowNotConverged as exc:
+            reason = f"not available: {exc}"
+    if reason is not None:
+        c.figures["developed"] = {"skipped": reason}
+        return {}, f"  fully developed comparison: {reason}"
+    d = compare(c, sf)
+    c.figures["developed"] = d
+    diff = d["cut_minus_developed"]
+    lines = [f"  fully developed at this station (chanmesh.flow, same flow rate"
+             + (f", De = {d['dean']:.3g}" if d["dean"] is not None else ", straight") + "): "
+             f"secondary max {d['secondary_max_m_s']:.4g} m/s ({100 * diff['secondary_max_relative']:+.1f} % here), "
+             f"mean {d['secondary_mean_m_s']:.4g} m/s ({100 * diff['secondary_mean_relative']:+.1f} % here)"]
+    for k, pair in enumerate(d["vortex_pairs"], start=1):
+        v = pair["developed"]
+        where = (f"the result's nearest {v['sense']} centre is {pair['distance_m'] * 1e6:.2f} um away"
+                 if pair["cut"] is not None else f"no {v['sense']} centre in the result")
+        lines.append(f"    developed vortex {k}: u = {v['u_m'] * 1e6:+.2f} um, z = {v['v_m'] * 1e6:+.2f} um, "
+                     f"{v['sense']}; {where}")
+    lines.append("    picture: section_vs_developed.png")
+    png = render_comparison_png(c, sf, title)
+    return {"section_vs_developed.png": png}, "\n".join(lines)

@@ -31,6 +31,7 @@ from chanmesh.geometry.stations import StationFrame
 Z = np.array([0.0, 0.0, 1.0])
 MIN_VALID = 0.98  # fraction of sample points that must fall inside the result's cells
 VORTEX_FLOOR = 0.10  # extrema of psi below this fraction of max |psi| are noise
+PSI_FLOOR = 1e-9  # no vortices when max |psi| is below this fraction of (largest speed x width): round-off
 REGION_FLOOR = 0.05  # vortex regions: |psi| above this fraction of its largest (round-off on zero lines would join them)
 FLOW_TOLERANCE = 0.02  # the section's flow rate against the design's [flow]: warn beyond (common practice, no source)
 PEAK_PATCH = 0.2  # the centre is fitted where |psi| is within this fraction of the region's extremum
@@ -222,7 +223,7 @@ def refined_max(grid: SampleGrid, f: np.ndarray) -> tuple[float, float, float]:
     return value, u, v
 
 
-def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame) -> list[dict[str, Any]]:
+def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame, floor: float = 0.0) -> list[dict[str, Any]]:
     """One centre per connected region of one sign of psi (where |psi| exceeds 5 % of its
     largest, so regions touching only across a zero line stay apart): the vertex of a quadratic fitted to
     psi where it is within 20 % of the region's extremum (the extremum itself if that fit is not
@@ -237,7 +238,7 @@ def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame) -> li
     from scipy.ndimage import label
 
     peak = float(np.max(np.abs(psi))) if psi.size else 0.0
-    if peak == 0.0:
+    if peak <= floor:  # a still section: round-off has no vortices
         return []
     o = frame.outline
     out = []
@@ -304,7 +305,9 @@ def cut(result: ResultField, design: Design, frame: StationFrame, nu: int = 100,
     psi = stream_function(grid, a, b)
     c = Cut(frame, grid, vel, w, a, b, psi, fraction)
     c.figures = figures(c)
-    c.figures["vortices"] = vortex_centres(grid, psi, frame)
+    speed = max(abs(float(c.figures["streamwise_mean_m_s"])), float(np.abs(vel).max()))
+    floor = PSI_FLOOR * speed * (frame.outline.u1 - frame.outline.u0)
+    c.figures["vortices"] = vortex_centres(grid, psi, frame, floor)
     return c
 
 

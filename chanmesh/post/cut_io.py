@@ -84,9 +84,13 @@ def json_data(c: Cut, design_name: str, result: ResultField) -> dict[str, Any]:
     }
 
 
-def write_cut(c: Cut, out: Path, title: str, design_name: str, result: ResultField) -> list[Path]:
-    """Write the four files into ``out``; returns their paths."""
+def write_cut(c: Cut, out: Path, title: str, design_name: str, result: ResultField,
+              extra: dict[str, bytes] | None = None) -> list[Path]:
+    """Write the four files (and any ``extra`` name -> bytes, e.g. the comparison picture) into
+    ``out``; returns their paths."""
     with StagedOutput(Path(out)) as staged:
+        for name, data in (extra or {}).items():
+            (staged.stage / name).write_bytes(data)
         (staged.stage / "section.csv").write_text(csv_text(c), encoding="utf-8")
         section_dataset(c).save(str(staged.stage / "section.vtu"))
         (staged.stage / "section.png").write_bytes(render_png(c, title))
