@@ -69,13 +69,14 @@ def file_sha256(path: Path) -> str:
 def analytic_sizes(design: Design) -> dict[str, float]:
     """Exact size of each named group where one exists (m^2 for surfaces, m^3 for the volume)."""
     ref = reference_of(design)
-    out = {"inlet": ref.inlet_area, "wall": ref.wall_area, "fluid": ref.volume}
-    split = design.outlets.split
-    if len(split) > 1 and design.section.shape == "rectangle":
-        for name, frac in zip(design.outlets.names, split):
-            out[name] = frac * ref.outlet_area
-    elif len(split) <= 1:
-        out["outlet"] = ref.outlet_area
+    out = {"wall": ref.wall_area, "fluid": ref.volume}
+    for port, area in ((design.inlets, ref.inlet_area), (design.outlets, ref.outlet_area)):
+        split = port.split
+        if len(split) > 1 and design.section.shape == "rectangle":
+            for name, frac in zip(port.names, split):
+                out[name] = frac * area
+        elif len(split) <= 1:
+            out[port.prefix] = area
     return out
 
 

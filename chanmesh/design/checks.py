@@ -199,16 +199,20 @@ def _bend_radius(design: Design, key: str, radius: float) -> None:
 
 
 def _check_outlets(design: Design) -> None:
-    split = design.outlets.split
+    for key, split in (("inlets.split", design.inlets.split), ("outlets.split", design.outlets.split)):
+        _check_split(key, split)
+
+
+def _check_split(key: str, split: tuple[float, ...]) -> None:
     if not split:
         return
     if len(split) > 20:
-        raise DesignError("outlets.split", list(split), "may have at most 20 fractions")
+        raise DesignError(key, list(split), "may have at most 20 fractions")
     for i, f in enumerate(split):
         if not f > 0:
-            raise DesignError(f"outlets.split[{i}]", f, "must be greater than 0")
+            raise DesignError(f"{key}[{i}]", f, "must be greater than 0")
     if abs(sum(split) - 1.0) > 1e-9:
-        raise DesignError("outlets.split", list(split), f"fractions must sum to 1 (they sum to {sum(split):.6g})")
+        raise DesignError(key, list(split), f"fractions must sum to 1 (they sum to {sum(split):.6g})")
 
 
 def _check_mesh(design: Design) -> None:

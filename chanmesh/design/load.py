@@ -24,6 +24,7 @@ from chanmesh.design.model import (
     Design,
     Fabrication,
     FlowSpec,
+    Inlets,
     MeshSpec,
     Outlets,
     Section,
@@ -250,7 +251,7 @@ FABRICATION_KEYS: dict[str, Key] = {
     "port_diameter": Key(read_length, default=Fabrication.port_diameter),
 }
 
-TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow", "fabrication")
+TOP_KEYS = ("name", "unit", "section", "path", "inlets", "outlets", "mesh", "flow", "fabrication")
 
 
 def _unknown(key: str, known: list[str]) -> DesignError:
@@ -307,11 +308,12 @@ def design_from_dict(data: dict[str, Any]) -> Design:
     fields = read_table({k: v for k, v in path_raw.items() if k != "kind"}, "path", {**PATH_KEYS[kind], **LEAD_KEYS}, scale)
     path = PATH_KINDS[kind](**fields)
 
+    inlets = Inlets(**read_table(_table(data.get("inlets"), "inlets"), "inlets", OUTLET_KEYS, scale))
     outlets = Outlets(**read_table(_table(data.get("outlets"), "outlets"), "outlets", OUTLET_KEYS, scale))
     mesh = MeshSpec(**read_table(_table(data.get("mesh"), "mesh"), "mesh", MESH_KEYS, scale))
     flow = FlowSpec(**read_table(_table(data.get("flow"), "flow"), "flow", FLOW_KEYS, scale))
     fab = Fabrication(**read_table(_table(data.get("fabrication"), "fabrication"), "fabrication", FABRICATION_KEYS, scale))
-    design = Design(name=name, section=section, path=path, outlets=outlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
+    design = Design(name=name, section=section, path=path, outlets=outlets, inlets=inlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
     check_design(design)
     return design
 
