@@ -82,7 +82,7 @@ def test_pvd_uses_the_last_step_and_time_picks_another(case, capfd):
     assert code == 0
     assert "field U (point data), time 2.5 (the last of 2)" in capfd.readouterr().out
     assert data["time"] == 2.5 and data["times"] == [0.0, 2.5]
-    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(_linear_flux(frame), rel=1e-9)
+    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(_linear_flux(frame), rel=1e-9, abs=0)
     code, _ = _cut(folder, folder / "run.pvd", "--time", "0")
     assert code == 2 and "0 vector fields" in _one_line(capfd)
     code, _ = _cut(folder, folder / "run.pvd", "--time", "1")
@@ -100,10 +100,10 @@ def test_association_is_chosen_and_printed(case, capfd):
     assert code == 0
     assert "field U (point data; also cell data: --association cell)" in capfd.readouterr().out
     assert data["field"] == {"name": "U", "association": "point", "also_as": "cell"}
-    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(_linear_flux(frame), rel=1e-9)
+    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(_linear_flux(frame), rel=1e-9, abs=0)
     code, data = _cut(folder, folder / "both.vtu", "--association", "cell")
     assert code == 0 and "field U (cell data; also point data" in capfd.readouterr().out
-    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(frame.outline.area * float(CELL_U @ frame.tangent), rel=1e-9)
+    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(frame.outline.area * float(CELL_U @ frame.tangent), rel=1e-9, abs=0)
     only_cells = _grid(mesh)
     only_cells.cell_data["U"] = np.tile(CELL_U, (only_cells.n_cells, 1))
     only_cells.save(folder / "cells.vtu")
@@ -223,7 +223,7 @@ def test_openfoam_case_latest_time_and_time_option(tmp_path, capfd):
         assert data["reader"] == "openfoam"
         # sample points just outside the faceted curved wall of the tetrahedra count zero:
         # measured 5.8e-4 of the flux (the valid fraction is in section.json)
-        assert data["figures"]["flow_rate_m3_s"] == pytest.approx(exact, rel=2e-3)
+        assert data["figures"]["flow_rate_m3_s"] == pytest.approx(exact, rel=2e-3, abs=0)
     assert main(["cut", str(case), *base, "--time", "0", "--out", str(tmp_path / "c0")]) == 0
     capfd.readouterr()
     assert json.loads((tmp_path / "c0" / "section.json").read_text())["figures"]["flow_rate_m3_s"] == 0.0
@@ -231,7 +231,7 @@ def test_openfoam_case_latest_time_and_time_option(tmp_path, capfd):
     assert main(["cut", str(case), *base, "--association", "point", "--out", str(tmp_path / "cp")]) == 0
     assert "field U (point data; also cell data" in capfd.readouterr().out
     data = json.loads((tmp_path / "cp" / "section.json").read_text())
-    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(exact, rel=2e-3)
+    assert data["figures"]["flow_rate_m3_s"] == pytest.approx(exact, rel=2e-3, abs=0)
     assert main(["cut", str(case), *base, "--time", "5", "--out", str(tmp_path / "c5")]) == 2
     assert "--time = 5 is not a time of" in _one_line(capfd)
 

@@ -19,6 +19,7 @@ from __future__ import annotations
 import contextlib
 import os
 import re
+import sys
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
@@ -56,6 +57,11 @@ def quiet_output() -> Iterator[list[str]]:
     except ImportError:  # pragma: no cover - VTK is a dependency
         vtkObject, was = None, 0
     saved: list[tuple[int, int]] = []
+    for stream in (sys.stdout, sys.stderr):  # what Python still buffers belongs on the terminal
+        try:
+            stream.flush()
+        except (AttributeError, ValueError, OSError):
+            pass
     with tempfile.TemporaryFile() as sink:
         try:
             for fd in (1, 2):
