@@ -82,6 +82,8 @@ def build(
     """Build ``design`` into folder ``out``; returns the files and the manifest."""
     clock = clock or StageClock(quiet=True)
     chosen = [format_named(f) for f in dict.fromkeys(formats)]
+    for fmt in chosen:
+        fmt.check_design(design)
     estimate = check_estimate(design, scale)
     request = build_request(formats, options, scale)
     with StagedOutput(Path(out)) as staged:
@@ -102,7 +104,7 @@ def build(
         clock("report")
         draft = make_manifest(design, mesh, [], request, dict(clock.marks), extra)  # no file hashes yet
         files.append(write_report(staged.stage, design, mesh, draft, files))
-        manifest = make_manifest(design, mesh, files, request, dict(clock.marks), extra)
+        manifest = make_manifest(design, mesh, files, request, dict(clock.marks), extra, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")
         final = staged.commit(MANIFEST)
     clock("done")

@@ -77,7 +77,10 @@ class StagedOutput:
         try:
             (self.folder / manifest_name).unlink(missing_ok=True)
             for name in names:
-                os.replace(self.stage / name, self.folder / name)
+                target = self.folder / name
+                if (self.stage / name).is_dir() and target.is_dir():  # a folder output (a solver case):
+                    os.replace(target, self.stage / f".previous-{name}")  # moved aside, deleted with the stage
+                os.replace(self.stage / name, target)
                 final.append(self.folder / name)
             os.replace(self.stage / manifest_name, self.folder / manifest_name)
             final.append(self.folder / manifest_name)
