@@ -70,7 +70,7 @@ def gmsh_section(design, scale: float) -> tuple[np.ndarray, np.ndarray]:  # type
     sized by the tetrahedral path's h(d) = min(h1 + (g - 1) d, h_core)."""
     import gmsh
 
-    from chanmesh.gmshlayer.background import grading_of
+    from chanmesh.sizing import grading_of
     from chanmesh.gmshlayer.session import gmsh_session
 
     grading = grading_of(design, scale)

@@ -9,9 +9,12 @@ tetrahedral mesher uses exactly that h(d) as its size field, so both meshers gra
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import brentq
+
+from chanmesh.design.model import Design
 
 
 def _half_counts(n: int) -> tuple[int, bool]:
@@ -96,3 +99,40 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
     nodes *= length / nodes[-1]
     nodes[-1] = length
     return nodes
+
+
+@dataclass(frozen=True)
+class Grading:
+    """The wall grading of a design, shared by both meshers (metres)."""
+
+    h_wall: float
+    ratio: float
+    h_core: float
+
+    def size(self, d: np.ndarray) -> np.ndarray:
+        return size_at_distance(d, self.h_wall, self.ratio, self.h_core)
+
+
+def grading_of(design: Design, scale: float = 1.0) -> Grading:
+    """Grading from ``mesh.cells_across`` with ``wall_ratio`` or ``first_cell``; ``scale``
+    refines it (sizes divided by ``scale``, the growth ratio replaced by its scale-th root so
+    that a refined family keeps the same stretching per unit length)."""
+    m = design.mesh
+    w = design.section.width
+    n = max(2, int(round(m.cells_across * scale)))
+    if m.first_cell is not None:
+        h1 = m.first_cell / scale
+        g = ratio_for_first_cell(w, n, min(h1, w / n))
+    else:
+        g = m.wall_ratio ** (1.0 / scale)
+        h1 = first_cell(w, n, g)
+    return Grading(h1, g, core_size(w, n, g))
+
+
+def tet_grading(design: Design, scale: float = 1.0) -> Grading:
+    """The tetrahedral size field refined by exactly ``scale``: the design's own grading with
+    every size divided by ``scale`` and the growth ratio replaced by its scale-th root. Unlike
+    the hexahedral grid, the size field needs no whole number of cells across, so a tet family
+    refines by the ratio asked, not by a rounded one."""
+    base = grading_of(design)
+    return Grading(base.h_wall / scale, base.ratio ** (1.0 / scale), base.h_core / scale)

@@ -20,7 +20,7 @@ ROOT = Path(__file__).resolve().parents[1]
 TEMPLATES = sorted((ROOT / "templates").glob("*.toml"))
 
 
-@pytest.mark.parametrize("family", ["arc", "spiral", "serpentine", "chambers"])
+@pytest.mark.parametrize("family", ["arc", "spiral", "serpentine", "chambers", "straight", "segments"])
 def test_starters_load_and_document_every_table(family):
     text = starter_text(family)
     d = loads_design(text)

@@ -17,7 +17,7 @@ from chanmesh.errors import DesignError, MeshFileError
 from chanmesh.meshing.tet import mesh_tet
 from chanmesh.post.cut import cut, probe
 from chanmesh.post.result_file import read_result
-from chanmesh.post.stations import station_frame
+from chanmesh.geometry.stations import station_frame
 from chanmesh.writers.meshio_bridge import to_meshio
 from synthetic_flow import arc_field, duct_flow_rate, duct_profile, secondary
 

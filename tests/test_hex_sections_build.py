@@ -8,7 +8,7 @@ import pytest
 from chanmesh.meshing.hex import mesh_hex
 from chanmesh.meshing.measure import group_measures
 from chanmesh.meshing.verify import check_boundary_tagging
-from chanmesh.post.stations import station_frame
+from chanmesh.geometry.stations import station_frame
 from tests.conftest import small_design
 
 

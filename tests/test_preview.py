@@ -21,7 +21,7 @@ from PIL import Image
 from chanmesh.cli import main
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
-from chanmesh.post.stations import station_arc_length
+from chanmesh.geometry.stations import station_arc_length
 from chanmesh.meshing.registry import mesher_for
 from chanmesh.report.palette import PALETTE, SCALE_BAR, WALL
 from chanmesh.report.plan_view import nice_length, plan_picture

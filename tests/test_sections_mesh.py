@@ -15,7 +15,7 @@ from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.measure import facet_areas
 from chanmesh.meshing.tet import mesh_tet
 from chanmesh.meshing.verify import check_boundary_tagging, face_use_counts
-from chanmesh.post.stations import station_arc_lengths, station_frame
+from chanmesh.geometry.stations import station_arc_lengths, station_frame
 
 
 def design(path: str, sections: str, section: str = "width = 200\nheight = 50", cells: int = 4):

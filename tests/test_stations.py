@@ -13,7 +13,7 @@ from chanmesh.cli import main
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
-from chanmesh.post.stations import station_arc_length, station_arc_lengths, station_frame
+from chanmesh.geometry.stations import station_arc_length, station_arc_lengths, station_frame
 
 ARC = """name = "a"
 unit = "um"
@@ -119,7 +119,8 @@ def test_serpentine_right_u_turn_outward_is_minus_n():
         (ARC, "99mm", "off the centreline"),
         (ARC, "turn=1", "spirals only"),
         (SPIRAL, "turn=3.5", "past the end of the spiral"),
-        (SERPENTINE, "90deg", "arcs and spirals only"),
+        (SERPENTINE, "bend=3:90deg", "bends 1 to 2"),
+        (SERPENTINE, "bend=1:200deg", "past the end of bend 1"),
         (ARC, "half", "is not a station"),
         (ARC, True, "fraction"),
     ],

@@ -147,3 +147,19 @@ def test_unknown_meshio_writer_lists_the_known_ones(tmp_path):
 
     with pytest.raises(DesignError, match="meshio has no writer 'nope'; it has .*vtk"):
         build(small_design("arc"), tmp_path, formats=("meshio:nope",))
+
+
+def test_hex_facet_xdmf_with_sections_has_one_topology_type(tmp_path):
+    """Wall and section quads come as separate blocks; meshio would write them as topology
+    "Mixed", which dolfinx 0.5.2 refuses. The writer merges them: one Quadrilateral topology
+    (XDMF 3 format specification, xdmf.org "XDMF Model and Format", Topology element)."""
+    import xml.etree.ElementTree as ET
+
+    d = small_design("arc", mesh={"cells": "hex", "sections": [0.5]})
+    r = build(d, tmp_path, formats=("xdmf",))
+    for stem, kind in (("t_facets", "Quadrilateral"), ("t", "Hexahedron")):
+        topo = ET.parse(tmp_path / f"{stem}.xdmf").getroot().findall(".//Topology")
+        assert [t.get("TopologyType") for t in topo] == [kind]
+    facets = meshio.read(tmp_path / "t_facets.xdmf")
+    cells = meshio.read(tmp_path / "t.xdmf")
+    assert {**_counts_by_tag(cells, "group"), **_counts_by_tag(facets, "group")} == _expected(r)

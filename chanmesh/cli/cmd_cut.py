@@ -11,7 +11,7 @@ from chanmesh.errors import DesignError
 from chanmesh.post.cut import cut
 from chanmesh.post.cut_io import write_cut
 from chanmesh.post.result_file import read_result
-from chanmesh.post.stations import station_frame
+from chanmesh.geometry.stations import station_frame
 
 NAME = "cut"
 HELP = "sample a result's velocity on the exact section at a station: streamwise and secondary flow"

@@ -9,7 +9,7 @@ from importlib import resources
 from chanmesh.design.model import PATH_KINDS
 
 NAME = "new"
-HELP = "print a commented starter design (arc, spiral, serpentine, chambers)"
+HELP = "print a commented starter design (arc, spiral, serpentine, chambers, straight, segments)"
 ORDER = 5
 
 

@@ -16,7 +16,7 @@ from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.numbers import design_numbers
 from chanmesh.numbers.regime import DEAN_DEFINITION, dean_number
-from chanmesh.post.stations import StationFrame, station_frame
+from chanmesh.geometry.stations import StationFrame, station_frame
 from chanmesh.safeio import atomic_write_text
 from chanmesh.units import parse_flow_rate, parse_velocity
 

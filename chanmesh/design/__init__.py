@@ -10,8 +10,10 @@ from chanmesh.design.model import (
     Outlets,
     Path,
     Section,
+    SegmentsPath,
     SerpentinePath,
     SpiralPath,
+    StraightPath,
 )
 from chanmesh.design.load import design_from_dict, load_design, loads_design
 
@@ -25,8 +27,10 @@ __all__ = [
     "Outlets",
     "Path",
     "Section",
+    "SegmentsPath",
     "SerpentinePath",
     "SpiralPath",
+    "StraightPath",
     "design_from_dict",
     "load_design",
     "loads_design",

@@ -8,7 +8,17 @@ from __future__ import annotations
 import math
 import re
 
-from chanmesh.design.model import ArcPath, ChambersPath, Design, SerpentinePath, SpiralPath
+from chanmesh.design.model import (
+    ArcPath,
+    ArcPiece,
+    ChambersPath,
+    Design,
+    LinePiece,
+    SegmentsPath,
+    SerpentinePath,
+    SpiralPath,
+    StraightPath,
+)
 from chanmesh.errors import DesignError, Shown
 
 MIN_WALL = 0.05
@@ -94,6 +104,10 @@ def _check_path(design: Design) -> None:
         _positive(design, "path.straight", path.straight)
         if not 1 <= path.periods <= 200:
             raise DesignError("path.periods", path.periods, "must be a whole number from 1 to 200")
+    elif isinstance(path, StraightPath):
+        _positive(design, "path.length", path.length)
+    elif isinstance(path, SegmentsPath):
+        _check_pieces(design, path)
     elif isinstance(path, ChambersPath):
         if not 1 <= path.count <= 500:
             raise DesignError("path.count", path.count, "must be a whole number from 1 to 500")
@@ -105,6 +119,68 @@ def _check_path(design: Design) -> None:
                 _fmt(design, path.chamber_width),
                 f"must be wider than the channel (section.width = {_fmt(design, w)})",
             )
+
+
+CLEARANCE_SLACK = 0.01
+"""The sampled clearance test of ``segments`` paths passes runs down to 1 % under the required
+distance (sampling and the slight tilt of neighbouring spiral turns; common practice, no source)."""
+
+
+def _check_pieces(design: Design, path: SegmentsPath) -> None:
+    """Each piece by the family rules it shares (bend radius, spiral pitch), then the whole
+    path: no run may come closer to another than the width plus a wall of MIN_WALL, or cross it."""
+    w = design.section.width
+    for i, piece in enumerate(path.segments):
+        key = f"path.segments[{i}]"
+        if isinstance(piece, LinePiece):
+            _positive(design, f"{key}.line", piece.length)
+        elif isinstance(piece, ArcPiece):
+            _bend_radius(design, f"{key}.arc", piece.radius)
+            if not 0 < abs(piece.angle) < 360:
+                raise DesignError(f"{key}.angle", Shown(f"{piece.angle:g} deg"),
+                                  "must be non-zero and lie in (-360, 360) degrees (> 0 turns left, < 0 right)")
+        else:
+            _bend_radius(design, f"{key}.spiral", piece.radius)
+            need = w * (1 + MIN_WALL)
+            if not piece.pitch >= need:
+                raise DesignError(f"{key}.pitch", _fmt(design, piece.pitch),
+                                  f"must be at least the width plus a wall of {MIN_WALL:.0%} of it ({_fmt(design, need)}) "
+                                  "so that neighbouring turns do not touch")
+            if not 0 < abs(piece.turns) <= 50:
+                raise DesignError(f"{key}.turns", Shown(f"{piece.turns:g}"), "must be non-zero and lie in [-50, 50] (> 0 turns left)")
+    _check_clearance(design, path)
+
+
+def _check_clearance(design: Design, path: SegmentsPath) -> None:
+    from chanmesh.geometry.centerline import centerline_of
+    from chanmesh.geometry.clearance import close_runs
+
+    w = design.section.width
+    need = w * (1 + MIN_WALL)
+    line = centerline_of(design)
+    hit = close_runs(line, need * (1 - CLEARANCE_SLACK), w / 8)
+    if hit is None:
+        return
+    lead = 1 if path.inlet_length > 0 else 0
+
+    def name(seg: int) -> str:
+        k = seg - lead
+        if k < 0:
+            return "path.inlet_length"
+        if k >= len(path.segments):
+            return "path.outlet_length"
+        return f"path.segments[{k}]"
+
+    first, second = name(hit.segment1), name(hit.segment2)
+    gap = Shown(f"{hit.distance / design.scale:.3g} {design.unit}")
+    raise DesignError(
+        second,
+        Shown(f"(a run at {hit.s2 / design.scale:.6g} {design.unit} along the path)"),
+        f"comes within {gap} (centre to centre) of {'itself' if first == second else first} "
+        f"at {hit.s1 / design.scale:.6g} {design.unit}; runs must stay at least {_fmt(design, need)} apart "
+        f"(the width plus a wall of {MIN_WALL:.0%} of it) and must not cross: lengthen the straights, "
+        "open the bends or turn the other way",
+    )
 
 
 def _bend_radius(design: Design, key: str, radius: float) -> None:

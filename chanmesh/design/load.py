@@ -17,6 +17,10 @@ from typing import Any, Callable
 
 from chanmesh.design.model import (
     PATH_KINDS,
+    ArcPiece,
+    LinePiece,
+    Piece,
+    SpiralPiece,
     Design,
     Fabrication,
     FlowSpec,
@@ -106,6 +110,46 @@ def read_station_list(key: str, raw: Any, scale: float) -> tuple[Any, ...]:
     return tuple(raw)
 
 
+PIECE_KEYS: dict[str, tuple[str, ...]] = {"line": (), "arc": ("angle",), "spiral": ("pitch", "turns")}
+"""Each piece of a ``segments`` path: its kind key (the length or radius) and the keys it needs."""
+MAX_PIECES = 1000
+
+
+def read_pieces(key: str, raw: Any, scale: float) -> tuple[Piece, ...]:
+    """``[{ line = L }, { arc = R, angle = A }, { spiral = r0, pitch = p, turns = n }, ...]``."""
+    example = "e.g. [{ line = 1000 }, { arc = 500, angle = 180 }, { arc = 300, angle = -180 }]"
+    if not isinstance(raw, list) or not raw:
+        raise DesignError(key, raw, f"must be a non-empty list of pieces, {example}")
+    if len(raw) > MAX_PIECES:
+        raise DesignError(key, f"{len(raw)} pieces", f"may have at most {MAX_PIECES} pieces")
+    out: list[Piece] = []
+    for i, item in enumerate(raw):
+        where = f"{key}[{i}]"
+        if not isinstance(item, dict):
+            raise DesignError(where, item, f"must be a table such as {{ line = 1000 }} or {{ arc = 500, angle = 90 }}")
+        kinds = [k for k in PIECE_KEYS if k in item]
+        if len(kinds) != 1:
+            raise DesignError(where, item, "must hold exactly one of 'line' (a length), 'arc' (a radius, with 'angle') "
+                              "or 'spiral' (a start radius, with 'pitch' and 'turns')")
+        kind = kinds[0]
+        allowed = [kind, *PIECE_KEYS[kind]]
+        for k in item:
+            if k not in allowed:
+                raise _unknown(f"{where}.{k}", allowed)
+        for k in PIECE_KEYS[kind]:
+            if k not in item:
+                raise DesignError(f"{where}.{k}", MISSING, f"is required for an {kind!r} piece")
+        size = read_length(f"{where}.{kind}", item[kind], scale)
+        if kind == "line":
+            out.append(LinePiece(size))
+        elif kind == "arc":
+            out.append(ArcPiece(size, _number(f"{where}.angle", item["angle"])))
+        else:
+            out.append(SpiralPiece(size, read_length(f"{where}.pitch", item["pitch"], scale),
+                                   _number(f"{where}.turns", item["turns"])))
+    return tuple(out)
+
+
 def _rate(key: str, raw: Any, scale: float) -> float:
     return parse_flow_rate(key, raw)
 
@@ -147,6 +191,8 @@ PATH_KEYS: dict[str, dict[str, Key]] = {
         "straight": Key(read_length, required=True),
         "periods": Key(read_int, required=True),
     },
+    "straight": {"length": Key(read_length, required=True)},
+    "segments": {"segments": Key(read_pieces, required=True)},
     "chambers": {
         "count": Key(read_int, required=True),
         "chamber_length": Key(read_length, required=True),

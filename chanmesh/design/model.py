@@ -98,8 +98,70 @@ class ChambersPath(_Leads):
     one_sided: bool = False
 
 
-Path = Union[ArcPath, SpiralPath, SerpentinePath, ChambersPath]
-PATH_KINDS: dict[str, type] = {p.kind: p for p in (ArcPath, SpiralPath, SerpentinePath, ChambersPath)}
+@dataclass(frozen=True)
+class StraightPath(_Leads):
+    """A straight channel of ``length`` along +x from the origin."""
+
+    kind: ClassVar[str] = "straight"
+    length: float = 0.0
+
+
+@dataclass(frozen=True)
+class LinePiece:
+    """A straight piece of a ``segments`` path, ``length`` metres (design file: ``{ line = L }``)."""
+
+    kind: ClassVar[str] = "line"
+    length: float
+
+
+@dataclass(frozen=True)
+class ArcPiece:
+    """A circular piece of centreline ``radius`` through ``angle`` degrees, > 0 turning left
+    (counter-clockwise seen from +z), < 0 right (design file: ``{ arc = R, angle = A }``)."""
+
+    kind: ClassVar[str] = "arc"
+    radius: float
+    angle: float  # degrees, signed
+
+
+@dataclass(frozen=True)
+class SpiralPiece:
+    """An outward Archimedean piece r = radius + pitch * theta / (2 pi) about a centre placed so
+    that the piece continues the path's tangent; ``turns`` > 0 turns left, < 0 right
+    (design file: ``{ spiral = r0, pitch = p, turns = n }``)."""
+
+    kind: ClassVar[str] = "spiral"
+    radius: float
+    pitch: float
+    turns: float  # signed
+
+
+Piece = Union[LinePiece, ArcPiece, SpiralPiece]
+PIECE_KINDS: dict[str, type] = {p.kind: p for p in (LinePiece, ArcPiece, SpiralPiece)}
+
+
+def piece_to_dict(piece: Piece) -> dict[str, Any]:
+    """A piece as written in a design file (SI lengths): ``{"line": L}``, ``{"arc": R, "angle": A}``,
+    ``{"spiral": r0, "pitch": p, "turns": n}``."""
+    if isinstance(piece, LinePiece):
+        return {"line": piece.length}
+    if isinstance(piece, ArcPiece):
+        return {"arc": piece.radius, "angle": piece.angle}
+    return {"spiral": piece.radius, "pitch": piece.pitch, "turns": piece.turns}
+
+
+@dataclass(frozen=True)
+class SegmentsPath(_Leads):
+    """A path of pieces joined with a continuous tangent, from the origin heading +x, in z = 0."""
+
+    kind: ClassVar[str] = "segments"
+    segments: tuple[Piece, ...] = ()
+
+
+Path = Union[ArcPath, SpiralPath, SerpentinePath, ChambersPath, StraightPath, SegmentsPath]
+PATH_KINDS: dict[str, type] = {
+    p.kind: p for p in (ArcPath, SpiralPath, SerpentinePath, ChambersPath, StraightPath, SegmentsPath)
+}
 
 
 @dataclass(frozen=True)
@@ -186,7 +248,7 @@ class Design:
             "name": self.name,
             "unit": self.unit,
             "section": dataclasses.asdict(self.section),
-            "path": {"kind": self.path.kind, **dataclasses.asdict(self.path)},
+            "path": _path_dict(self.path),
             "outlets": {"split": list(self.outlets.split)},
             "mesh": {**dataclasses.asdict(self.mesh), "sections": list(self.mesh.sections)},
             "flow": {**dataclasses.asdict(self.flow), "particles": list(self.flow.particles)},
@@ -194,3 +256,10 @@ class Design:
         }
         return finite_json(out)
 
+
+
+def _path_dict(path: Path) -> dict[str, Any]:
+    out = {"kind": path.kind, **dataclasses.asdict(path)}
+    if isinstance(path, SegmentsPath):
+        out["segments"] = [piece_to_dict(p) for p in path.segments]
+    return out

@@ -19,7 +19,20 @@ from typing import Protocol
 
 import numpy as np
 
-from chanmesh.design.model import ArcPath, ChambersPath, Design, Path, SerpentinePath, SpiralPath
+from chanmesh.design.model import (
+    ArcPath,
+    ArcPiece,
+    ChambersPath,
+    Design,
+    LinePiece,
+    Path,
+    Piece,
+    SegmentsPath,
+    SerpentinePath,
+    SpiralPath,
+    SpiralPiece,
+    StraightPath,
+)
 
 
 class Segment(Protocol):
@@ -97,7 +110,11 @@ class Arc:
 
 @dataclass(frozen=True)
 class Spiral:
-    """Archimedean spiral r = r0 + c theta about the origin, theta in [0, theta_end], CCW.
+    """Archimedean spiral r = r0 + c theta, theta in [0, theta_end], about ``center``.
+
+    The point at theta lies at polar angle ``angle0 + sense * theta`` about the centre;
+    ``sense`` = +1 winds counter-clockwise (turning left), -1 clockwise (turning right). The
+    defaults put the centre at the origin, starting on +x, counter-clockwise (the spiral family).
 
     Arc length from theta = 0 in closed form with phi = theta + r0 / c (any handbook of
     plane curves): s = c/2 [phi sqrt(1 + phi^2) + asinh(phi)] evaluated from phi0 to phi.
@@ -106,6 +123,9 @@ class Spiral:
     r0: float
     c: float  # pitch / (2 pi)
     theta_end: float
+    center: tuple[float, float] = (0.0, 0.0)
+    angle0: float = 0.0
+    sense: float = 1.0
 
     def _g(self, phi: np.ndarray) -> np.ndarray:
         return 0.5 * self.c * (phi * np.sqrt(1.0 + phi * phi) + np.arcsinh(phi))
@@ -135,29 +155,40 @@ class Spiral:
         theta = np.asarray(theta, dtype=float)
         return self._g(self._phi0 + theta) - self._g(np.array(self._phi0))
 
+    def radius_at(self, s: np.ndarray) -> np.ndarray:
+        """Distance from the spiral's centre, r0 + c theta (m)."""
+        return self.r0 + self.c * self.theta_at(s)
+
     def points(self, s: np.ndarray) -> np.ndarray:
         th = self.theta_at(s)
         r = self.r0 + self.c * th
-        return np.column_stack([r * np.cos(th), r * np.sin(th)])
+        a = self.angle0 + self.sense * th
+        return np.asarray(self.center) + np.column_stack([r * np.cos(a), r * np.sin(a)])
 
     def tangents(self, s: np.ndarray) -> np.ndarray:
         th = self.theta_at(s)
         r = self.r0 + self.c * th
-        dx = self.c * np.cos(th) - r * np.sin(th)
-        dy = self.c * np.sin(th) + r * np.cos(th)
+        a = self.angle0 + self.sense * th
+        dx = self.c * np.cos(a) - self.sense * r * np.sin(a)
+        dy = self.c * np.sin(a) + self.sense * r * np.cos(a)
         norm = np.hypot(dx, dy)
         return np.column_stack([dx / norm, dy / norm])
 
     def curvature(self, s: np.ndarray) -> np.ndarray:
-        """kappa = (r^2 + 2c^2) / (r^2 + c^2)^(3/2) for r = r0 + c theta."""
+        """kappa = sense (r^2 + 2c^2) / (r^2 + c^2)^(3/2) for r = r0 + c theta."""
         r = self.r0 + self.c * self.theta_at(s)
-        return (r * r + 2 * self.c**2) / (r * r + self.c**2) ** 1.5
+        return self.sense * (r * r + 2 * self.c**2) / (r * r + self.c**2) ** 1.5
 
     @property
     def turning(self) -> float:
         """Heading change: theta plus the change of the angle between radius and tangent."""
         psi = lambda th: math.atan2(self.r0 + self.c * th, self.c)  # noqa: E731
-        return self.theta_end + psi(self.theta_end) - psi(0.0)
+        return self.sense * (self.theta_end + psi(self.theta_end) - psi(0.0))
+
+    @property
+    def swept(self) -> float:
+        """Polar angle swept about the centre, rad (> 0)."""
+        return self.theta_end
 
 
 @dataclass(frozen=True)
@@ -215,67 +246,97 @@ class Centerline:
         return self._eval(s, "curvature")
 
 
-def _chain(first: Segment, path: Path, body: list[Segment], kinds: list[str]) -> Centerline:
-    """Add the optional straight leads before and after the body."""
+PIECE_ROLES = {"line": "straight", "arc": "bend", "spiral": "spiral"}
+"""Role of each piece kind in ``Centerline.kinds`` (leads are ``"lead"``)."""
+
+
+def _cos_sin(angle: float) -> tuple[float, float]:
+    """cos and sin, exact at whole multiples of 90 degrees (so axis-aligned layouts stay exact)."""
+    q = angle / (0.5 * math.pi)
+    if abs(q - round(q)) < 1e-12:
+        return ((1.0, 0.0), (0.0, 1.0), (-1.0, 0.0), (0.0, -1.0))[int(round(q)) % 4]
+    return math.cos(angle), math.sin(angle)
+
+
+def segment_of(piece: Piece, start: tuple[float, float], heading: float) -> Segment:
+    """The exact segment of one piece laid from ``start`` (m) along ``heading`` (rad from +x)."""
+    x, y = start
+    if isinstance(piece, LinePiece):
+        return Line(start, heading, piece.length)
+    if isinstance(piece, ArcPiece):
+        side = 1.0 if piece.angle > 0 else -1.0  # the centre lies to the left for a left turn
+        cos_h, sin_h = _cos_sin(heading)
+        cx = x - side * piece.radius * sin_h
+        cy = y + side * piece.radius * cos_h
+        return Arc((cx, cy), piece.radius, math.atan2(y - cy, x - cx), math.radians(piece.angle))
+    if isinstance(piece, SpiralPiece):
+        sense = 1.0 if piece.turns > 0 else -1.0
+        c = piece.pitch / (2 * math.pi)
+        # the tangent at theta = 0 leans atan2(r0, c) from the outward radius, toward the turn
+        angle0 = heading - sense * math.atan2(piece.radius, c)
+        centre = (x - piece.radius * math.cos(angle0), y - piece.radius * math.sin(angle0))
+        return Spiral(piece.radius, c, 2 * math.pi * abs(piece.turns), centre, angle0, sense)
+    raise TypeError(f"unknown piece {piece!r}")
+
+
+def _end(seg: Segment) -> tuple[tuple[float, float], float]:
+    p = seg.points(np.array([seg.length]))[0]
+    t = seg.tangents(np.array([seg.length]))[0]
+    return (float(p[0]), float(p[1])), math.atan2(t[1], t[0])
+
+
+def lay_out(pieces: tuple[Piece, ...] | list[Piece], start: tuple[float, float] = (0.0, 0.0), heading: float = 0.0,
+            inlet_length: float = 0.0, outlet_length: float = 0.0) -> Centerline:
+    """The one centreline code path: pieces laid end to end with a continuous tangent from
+    ``start`` along ``heading``, with optional straight leads before (ending at ``start``) and
+    after. Headings of lines and arcs advance by the exact piece angle, not a re-measured one."""
     segs: list[Segment] = []
     roles: list[str] = []
-    if path.inlet_length > 0:
-        p0 = first.points(np.array([0.0]))[0]
-        t0 = first.tangents(np.array([0.0]))[0]
-        start = (float(p0[0] - t0[0] * path.inlet_length), float(p0[1] - t0[1] * path.inlet_length))
-        segs.append(Line(start, math.atan2(t0[1], t0[0]), path.inlet_length))
+    if inlet_length > 0:
+        d = (math.cos(heading), math.sin(heading))
+        segs.append(Line((start[0] - d[0] * inlet_length, start[1] - d[1] * inlet_length), heading, inlet_length))
         roles.append("lead")
-    segs += body
-    roles += kinds
-    if path.outlet_length > 0:
-        last = body[-1]
-        p1 = last.points(np.array([last.length]))[0]
-        t1 = last.tangents(np.array([last.length]))[0]
-        segs.append(Line((float(p1[0]), float(p1[1])), math.atan2(t1[1], t1[0]), path.outlet_length))
+    p, h = start, heading
+    for piece in pieces:
+        seg = segment_of(piece, p, h)
+        segs.append(seg)
+        roles.append(PIECE_ROLES[piece.kind])
+        p, h_end = _end(seg)
+        h = h + seg.turning if not isinstance(seg, Spiral) else h_end
+    if outlet_length > 0:
+        segs.append(Line(p, h, outlet_length))
         roles.append("lead")
     return Centerline(tuple(segs), tuple(roles))
 
 
-def centerline_of(design: Design) -> Centerline:
-    """The exact centreline of a design's path (see each path class for the layout)."""
-    path = design.path
+def pieces_of(path: Path) -> tuple[tuple[float, float], float, tuple[Piece, ...]]:
+    """How each family maps to pieces: (start point m, start heading rad, pieces)."""
+    if isinstance(path, SegmentsPath):
+        return (0.0, 0.0), 0.0, tuple(path.segments)
     if isinstance(path, ArcPath):
         # starts at (R, 0) heading +y, turns counter-clockwise about the origin
-        arc = Arc((0.0, 0.0), path.radius, 0.0, math.radians(path.angle))
-        return _chain(arc, path, [arc], ["bend"])
+        return (path.radius, 0.0), 0.5 * math.pi, (ArcPiece(path.radius, path.angle),)
     if isinstance(path, SpiralPath):
-        sp = Spiral(path.inner_radius, path.pitch / (2 * math.pi), 2 * math.pi * path.turns)
-        return _chain(sp, path, [sp], ["spiral"])
+        # starts at (r0, 0) on the +x axis, centre at the origin, counter-clockwise
+        c = path.pitch / (2 * math.pi)
+        return (path.inner_radius, 0.0), math.atan2(path.inner_radius, c), (SpiralPiece(path.inner_radius, path.pitch, path.turns),)
     if isinstance(path, SerpentinePath):
-        return _chain_serpentine(path)
+        # straight, U-turn left, straight, U-turn right, ..., straight; heading +x, climbing in +y
+        out: list[Piece] = []
+        for k in range(2 * path.periods):
+            out += [LinePiece(path.straight), ArcPiece(path.radius, 180.0 if k % 2 == 0 else -180.0)]
+        out.append(LinePiece(path.straight))
+        return (0.0, 0.0), 0.0, tuple(out)
     if isinstance(path, ChambersPath):
         total = (path.count + 1) * path.throat_length + path.count * path.chamber_length
-        line = Line((0.0, 0.0), 0.0, total)
-        return _chain(line, path, [line], ["straight"])
+        return (0.0, 0.0), 0.0, (LinePiece(total),)
+    if isinstance(path, StraightPath):
+        return (0.0, 0.0), 0.0, (LinePiece(path.length),)
     raise TypeError(f"unknown path {path!r}")
 
 
-def _chain_serpentine(path: SerpentinePath) -> Centerline:
-    """Straight, U-turn left, straight, U-turn right, ... ending with a straight; starts at the
-    origin heading +x, and climbs in +y by 2 R per U-turn."""
-    R, L = path.radius, path.straight
-    segs: list[Segment] = []
-    kinds: list[str] = []
-    x, y, heading = 0.0, 0.0, 0.0
-    for k in range(2 * path.periods):
-        segs.append(Line((x, y), heading, L))
-        kinds.append("straight")
-        x += L * math.cos(heading)
-        left = k % 2 == 0
-        # heading is 0 or pi; the centre of the U-turn lies one radius to the turning side
-        side = 1.0 if left else -1.0
-        nx, ny = -math.sin(heading) * side, math.cos(heading) * side
-        cx, cy = x + R * nx, y + R * ny
-        angle0 = math.atan2(y - cy, x - cx)
-        segs.append(Arc((cx, cy), R, angle0, side * math.pi))
-        kinds.append("bend")
-        x, y = cx + R * nx, cy + R * ny
-        heading = heading + math.pi if left else heading - math.pi
-    segs.append(Line((x, y), heading, L))
-    kinds.append("straight")
-    return _chain(segs[0], path, segs, kinds)
+def centerline_of(design: Design) -> Centerline:
+    """The exact centreline of a design's path: its pieces (``pieces_of``) laid out by ``lay_out``."""
+    path = design.path
+    start, heading, pieces = pieces_of(path)
+    return lay_out(pieces, start, heading, path.inlet_length, path.outlet_length)

@@ -17,7 +17,7 @@ import gmsh
 from chanmesh.design.model import Design
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.gmshlayer.solids import section_face
-from chanmesh.post.stations import Outline, mesh_station_arc_lengths, outline_at
+from chanmesh.geometry.stations import Outline, mesh_station_arc_lengths, outline_at
 
 MARGIN_ACROSS = 0.02  # of the section width
 MARGIN_HIGH = 0.10  # of the section height

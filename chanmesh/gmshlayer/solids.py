@@ -21,7 +21,7 @@ from chanmesh.geometry.section import SectionShape, section_shape_of
 from chanmesh.gmshlayer.session import MODEL_UNIT
 
 if TYPE_CHECKING:
-    from chanmesh.post.stations import Outline
+    from chanmesh.geometry.stations import Outline
 
 SPLINE_POINTS_PER_TURN = 240
 

@@ -21,7 +21,7 @@ from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.meshing.hexplan import HexPlan, plan_hex
 from chanmesh.meshing.hex_sections import tag_section_layers
-from chanmesh.post.stations import mesh_station_arc_lengths
+from chanmesh.geometry.stations import mesh_station_arc_lengths
 from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.verify import FACES
 

@@ -5,7 +5,7 @@ A swept mesh has node layers at arc lengths s_0 = 0 < s_1 < ... < s_nk = L. Two 
 1. ``layers_through_stations(s, stations, keep)`` moves the layer nearest each station onto it
    (keeping the segment breaks ``keep`` fixed, stretching the layers in between linearly), so
    that the layer is the exact plane of the section; the stations come from
-   ``chanmesh.post.stations.mesh_station_arc_lengths(design)``;
+   ``chanmesh.geometry.stations.mesh_station_arc_lengths(design)``;
 2. ``tag_section_layers(mesh, design, stations)`` finds, for each station, the quad faces of
    hexahedra whose four nodes lie on that plane inside its outline, and adds them as groups
    ``section_1..k`` between ``wall`` and ``fluid`` (the fluid group's tag moves up to stay last).
@@ -20,7 +20,7 @@ from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.verify import FACES, INTERNAL_PREFIX
-from chanmesh.post.stations import outline_at
+from chanmesh.geometry.stations import outline_at
 
 PLANE_TOL = 1e-6  # of the section width: nodes this close to a station plane lie on it
 

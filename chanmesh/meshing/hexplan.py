@@ -22,7 +22,7 @@ from chanmesh.design.model import ChambersPath, Design
 from chanmesh.errors import DesignError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
-from chanmesh.gmshlayer.background import Grading, grading_of
+from chanmesh.sizing import Grading, grading_of
 from chanmesh.sizing import capped_nodes, graded_nodes, ratio_for_first_cell
 
 
@@ -159,7 +159,7 @@ def _through_stations(design: Design, s: np.ndarray, keep: np.ndarray) -> np.nda
     """Move the nearest node layers onto the design's section stations (``mesh.sections``),
     leaving the layers in ``keep`` (segment joins, chamber walls) where they are."""
     from chanmesh.meshing.hex_sections import layers_through_stations
-    from chanmesh.post.stations import mesh_station_arc_lengths
+    from chanmesh.geometry.stations import mesh_station_arc_lengths
 
     stations = mesh_station_arc_lengths(design)
     if stations:

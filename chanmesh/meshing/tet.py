@@ -12,7 +12,8 @@ import gmsh
 import numpy as np
 
 from chanmesh.design.model import Design
-from chanmesh.gmshlayer.background import install_size_field, size_grid, tet_grading
+from chanmesh.gmshlayer.background import install_size_field, size_grid
+from chanmesh.sizing import tet_grading
 from chanmesh.gmshlayer.labels import label_boundary, split_outlet
 from chanmesh.gmshlayer.sections import embed_sections
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session

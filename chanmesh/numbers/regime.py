@@ -2,8 +2,10 @@
 
 De = Re sqrt(D_h / (2 R)) with R the local radius of curvature of the centreline (the
 definition printed with every result; part of the literature uses sqrt(D_h / R), a factor
-sqrt(2) larger). Stations: the arc's bend; a spiral at its start, every whole turn and its
-end; each U-turn of a serpentine. The chambers family is straight and has no Dean number.
+sqrt(2) larger). Stations, per curved piece of the path: the middle of each arc (the arc's
+bend, each U-turn of a serpentine, each bend of a segments path); a spiral at its start, every
+whole turn and its end. Each states its turning side and inner wall (u = -w/2 turning left,
+u = +w/2 turning right). Straight paths (chambers, straight) have no Dean number.
 """
 
 from __future__ import annotations
@@ -14,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.design.model import ArcPath, Design, SerpentinePath, SpiralPath
-from chanmesh.geometry.centerline import Spiral, centerline_of
+from chanmesh.geometry.centerline import Arc, Spiral, centerline_of
 
 DEAN_DEFINITION = "De = Re * sqrt(D_h / (2 R)), R the local radius of curvature of the centreline"
 DEAN_ALTERNATIVE = "some authors use De = Re * sqrt(D_h / R), larger by a factor sqrt(2) = 1.414"
@@ -60,8 +62,11 @@ class Station:
     """A place on the centreline where the curvature is reported.
 
     ``s`` arc length from the inlet (m), ``curvature_radius`` 1/kappa (m), ``radius`` the
-    distance from the spiral centre (m; the bend radius for arcs and U-turns), ``turn`` the
-    spiral turn number (None elsewhere), ``side`` 'left' / 'right' for U-turns.
+    distance from the piece's centre (m; the bend radius of an arc, r = r0 + c theta of a
+    spiral), ``turn`` the spiral turn number (None elsewhere), ``side`` 'left' / 'right' (the
+    way the path turns there), ``piece`` the bend number (arcs and spirals counted from the
+    inlet, 1-based) and ``inner_wall`` the section wall nearer the centre of curvature:
+    u = -w/2 where the path turns left, u = +w/2 where it turns right.
     """
 
     label: str
@@ -70,44 +75,50 @@ class Station:
     radius: float
     turn: float | None = None
     side: str | None = None
+    piece: int | None = None
+    inner_wall: str | None = None
+
+
+def _wall(kappa: float) -> tuple[str, str]:
+    return ("left", "u = -w/2") if kappa > 0 else ("right", "u = +w/2")
 
 
 def stations_of(design: Design) -> tuple[Station, ...]:
-    """The Dean stations of a design's path; empty for the chambers family."""
+    """The Dean stations of a design's path, one set per curved piece: the middle of each arc;
+    a spiral's start, every whole turn and its end. Empty for straight paths."""
     line = centerline_of(design)
     breaks = line.breaks
     path = design.path
     out: list[Station] = []
-    if isinstance(path, SpiralPath):
-        i = line.kinds.index("spiral")
+    curved = [i for i, seg in enumerate(line.segments) if isinstance(seg, (Arc, Spiral))]
+    for k, i in enumerate(curved, start=1):
         seg = line.segments[i]
-        if not isinstance(seg, Spiral):  # pragma: no cover - centerline_of always builds one
-            raise TypeError(f"spiral segment expected, got {seg!r}")
-        turns = [float(k) for k in range(int(math.floor(path.turns + 1e-12)) + 1)]
-        if path.turns - turns[-1] > 1e-9:
-            turns.append(path.turns)
-        for t in turns:
-            theta = 2.0 * math.pi * t
-            s_local = float(seg.arclength_at(np.array(theta)))
-            kappa = float(seg.curvature(np.array([s_local]))[0])
-            r = seg.r0 + seg.c * theta
-            out.append(Station(f"turn {t:g}", float(breaks[i]) + s_local, 1.0 / kappa, r, turn=t))
-        return tuple(out)
-    if isinstance(path, (ArcPath, SerpentinePath)):
-        k = 0
-        for i, kind in enumerate(line.kinds):
-            if kind != "bend":
-                continue
-            k += 1
-            mid = float(0.5 * (breaks[i] + breaks[i + 1]))
-            kappa = float(line.curvature(np.array([mid]))[0])
-            if isinstance(path, ArcPath):
-                out.append(Station("bend", mid, 1.0 / abs(kappa), path.radius))
-            else:
-                side = "left" if kappa > 0 else "right"
-                out.append(Station(f"U-turn {k}", mid, 1.0 / abs(kappa), path.radius, side=side))
-        return tuple(out)
-    return ()
+        if isinstance(seg, Spiral):
+            turns_total = seg.theta_end / (2.0 * math.pi)
+            turns = [float(t) for t in range(int(math.floor(turns_total + 1e-12)) + 1)]
+            if turns_total - turns[-1] > 1e-9:
+                turns.append(turns_total)
+            for t in turns:
+                theta = 2.0 * math.pi * t
+                s_local = float(seg.arclength_at(np.array(theta)))
+                kappa = float(seg.curvature(np.array([s_local]))[0])
+                side, wall = _wall(kappa)
+                r = seg.r0 + seg.c * theta
+                label = f"turn {t:g}" if isinstance(path, SpiralPath) else f"bend {k} turn {t:g}"
+                out.append(Station(label, float(breaks[i]) + s_local, 1.0 / abs(kappa), r, turn=t,
+                                   side=side, piece=k, inner_wall=wall))
+            continue
+        mid = float(0.5 * (breaks[i] + breaks[i + 1]))
+        kappa = float(line.curvature(np.array([mid]))[0])
+        side, wall = _wall(kappa)
+        if isinstance(path, ArcPath):
+            label = "bend"
+        elif isinstance(path, SerpentinePath):
+            label = f"U-turn {k}"
+        else:
+            label = f"bend {k}"
+        out.append(Station(label, mid, 1.0 / abs(kappa), seg.radius, side=side, piece=k, inner_wall=wall))
+    return tuple(out)
 
 
 def station_numbers(station: Station, reynolds: float, hydraulic_diameter: float, low: float, high: float) -> dict[str, object]:
@@ -127,4 +138,7 @@ def station_numbers(station: Station, reynolds: float, hydraulic_diameter: float
         out["turn"] = station.turn
     if station.side is not None:
         out["side"] = station.side
+    if station.piece is not None:
+        out["bend"] = station.piece
+        out["inner_wall"] = station.inner_wall
     return out

@@ -11,9 +11,9 @@ import dataclasses
 import math
 from typing import Any
 
-from chanmesh.design.model import ChambersPath, Design, FlowSpec, SpiralPath
+from chanmesh.design.model import ChambersPath, Design, FlowSpec, SpiralPiece
 from chanmesh.errors import MISSING, DesignError
-from chanmesh.geometry.centerline import centerline_of
+from chanmesh.geometry.centerline import centerline_of, pieces_of
 from chanmesh.geometry.section import SectionShape
 from chanmesh.numbers import duct, particles, regime
 from chanmesh.numbers.fluid import Fluid, fluid_of
@@ -211,11 +211,15 @@ def _definitions(design: Design) -> dict[str, str]:
             "f Re and the peak velocity of a trapezoid use the rectangle of its mean height (an "
             "approximation for gentle slopes, no source); area, perimeter and D_h are exact"
         )
-    if isinstance(design.path, SpiralPath):
+    if any(isinstance(p, SpiralPiece) for p in pieces_of(design.path)[2]):
         d["spiral_stations"] = (
             "one station at the start, each whole turn and the end; radius_m is r = r0 + c theta "
             "from the centre, curvature_radius_m is 1 / kappa (slightly smaller than r)"
         )
+    d["inner_wall"] = (
+        "per bend: the section wall nearer the centre of curvature, u = -w/2 where the path turns left "
+        "(counter-clockwise seen from +z), u = +w/2 where it turns right; bend = curved piece number from the inlet"
+    )
     if isinstance(design.path, ChambersPath):
         d["chambers"] = "straight: no Dean number; expansion ratio = chamber_width / width; Re in throat and chamber"
     return d

@@ -22,7 +22,7 @@ from chanmesh.design.model import Design
 from chanmesh.errors import MeshFileError
 from chanmesh.geometry.centerline import centerline_of
 from chanmesh.post.result_file import ResultField
-from chanmesh.post.stations import StationFrame
+from chanmesh.geometry.stations import StationFrame
 
 Z = np.array([0.0, 0.0, 1.0])
 MIN_VALID = 0.98  # fraction of sample points that must fall inside the result's cells

@@ -23,7 +23,7 @@ from matplotlib.patches import FancyArrow, Polygon, Rectangle  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.geometry.plan import plan_outline  # noqa: E402
-from chanmesh.post.stations import station_arc_lengths  # noqa: E402
+from chanmesh.geometry.stations import station_arc_lengths  # noqa: E402
 from chanmesh.report.palette import INK, INLET, PAPER, SCALE_BAR, WALL, group_colours  # noqa: E402
 
 DPI = 100

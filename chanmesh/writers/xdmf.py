@@ -4,6 +4,11 @@
 * ``<stem>_facets.xdmf`` / ``_facets.h5``: the boundary (and section) facets, same array;
 * ``<stem>_groups.json``: group name -> {tag, dim}, since XDMF keeps the integers but not the
   names (meshio 5.3.5).
+
+Blocks of one cell type are merged into one, so each file has a single topology type: meshio
+writes several blocks as topology "Mixed", which dolfinx 0.5.2 refuses ("Cannot recognise cell
+type. Unknown value: mixed"); a hex mesh with sections has its wall and section quads in
+separate blocks. docs/fenicsx.md gives the recipe that reads the pair in dolfinx.
 """
 
 from __future__ import annotations
@@ -12,15 +17,37 @@ import json
 from pathlib import Path
 
 import meshio
+import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.writers import WriteOptions
 from chanmesh.writers.meshio_bridge import group_table, to_meshio
 
 
+def merge_blocks(m: meshio.Mesh) -> meshio.Mesh:
+    """The same mesh with one block per cell type (cells in their original order within a type)."""
+    order: list[str] = []
+    cells: dict[str, list[np.ndarray]] = {}
+    data: dict[str, dict[str, list[np.ndarray]]] = {k: {} for k in m.cell_data}
+    for i, block in enumerate(m.cells):
+        if block.type not in cells:
+            order.append(block.type)
+            cells[block.type] = []
+            for k in data:
+                data[k][block.type] = []
+        cells[block.type].append(block.data)
+        for k in data:
+            data[k][block.type].append(np.asarray(m.cell_data[k][i]))
+    return meshio.Mesh(
+        m.points,
+        [(t, np.concatenate(cells[t])) for t in order],
+        cell_data={k: [np.concatenate(v[t]) for t in order] for k, v in data.items()},
+    )
+
+
 def write_xdmf(mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
-    cells = to_meshio(mesh, facets=False)
-    facets = to_meshio(mesh, volumes=False)
+    cells = merge_blocks(to_meshio(mesh, facets=False))
+    facets = merge_blocks(to_meshio(mesh, volumes=False))
     for m in (cells, facets):
         del m.cell_data["gmsh:physical"]
     main = folder / f"{stem}.xdmf"

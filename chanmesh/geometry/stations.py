@@ -4,8 +4,11 @@ A station is written as
 
 * a fraction of the centreline length, ``0.5`` (a plain number in [0, 1]);
 * an arc length from the inlet with its unit, ``'12.5mm'``;
-* for an arc or a spiral, the angle turned from the start of the curved part, ``'90deg'``;
-* for a spiral, the turn number from its start, ``'turn=2.25'``.
+* an angle, ``'90deg'``: swept about the centres of the path's curved pieces (arcs and
+  spirals), summed from the inlet with left and right turns counted alike; for an arc the bend
+  angle, for a spiral its polar angle theta (not its slightly larger change of heading);
+* the same in whole turns, ``'turn=2.25'`` (paths with a spiral);
+* an angle into the K-th curved piece, ``'bend=2:45deg'`` (arcs and spirals counted from 1).
 
 ``station_frame`` gives the exact point, tangent and section frame there, and the exact
 cross-section outline (a chamber's wider section when the station lies in one).
@@ -20,23 +23,71 @@ from typing import Any
 
 import numpy as np
 
-from chanmesh.design.model import ArcPath, ChambersPath, Design, SpiralPath
+from chanmesh.design.model import ChambersPath, Design
 from chanmesh.errors import DesignError
-from chanmesh.geometry.centerline import Centerline, Spiral, centerline_of
+from chanmesh.geometry.centerline import Arc, Centerline, Spiral, centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.units import parse_length
 
 _ANGLE = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*$", re.IGNORECASE)
+_BEND = re.compile(r"^\s*bend\s*=\s*(\d+)\s*:\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*$", re.IGNORECASE)
 _TURN = re.compile(r"^\s*turns?\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*$", re.IGNORECASE)
 ENDS_TOL = 1e-12  # relative slack at the two ends of the centreline
 END_CLEARANCE = 1e-9  # m: a mesh section this close to the inlet or outlet would be that face
 STRAIGHT_CURVATURE = 1e-9  # 1/m: below this the path counts as straight
 
 
-def _body(line: Centerline, kind: str) -> tuple[int, float]:
-    """Index and start arc length of the first segment of role ``kind``."""
-    i = line.kinds.index(kind)
-    return i, float(line.breaks[i])
+def curved_pieces(line: Centerline) -> list[int]:
+    """Indices of the curved segments (arcs and spirals) in path order: bend 1, bend 2, ..."""
+    return [i for i, seg in enumerate(line.segments) if isinstance(seg, (Arc, Spiral))]
+
+
+def swept_angle(seg: Arc | Spiral) -> float:
+    """Angle swept about the piece's own centre, rad (> 0): the bend angle of an arc, the polar
+    angle theta of a spiral (slightly less than its change of heading)."""
+    return abs(seg.sweep) if isinstance(seg, Arc) else seg.theta_end
+
+
+def _local_arc_length(seg: Arc | Spiral, theta: float) -> float:
+    return seg.radius * theta if isinstance(seg, Arc) else float(seg.arclength_at(np.array(theta)))
+
+
+def _angle_station(design: Design, raw: Any, key: str, line: Centerline, angle: Any, turn: Any, bend: Any) -> float:
+    """``'90deg'`` (swept over all bends from the inlet), ``'turn=2.25'`` (the same in whole
+    turns; paths with a spiral) or ``'bend=K:45deg'`` (into the K-th curved piece)."""
+    path = design.path
+    curved = curved_pieces(line)
+    if not curved:
+        raise DesignError(key, raw, f"angle stations need a bend; this path ({path.kind}) is straight: "
+                          "give a fraction or a length with unit")
+    if turn and not any(isinstance(line.segments[i], Spiral) for i in curved):
+        raise DesignError(key, raw, f"'turn=' stations apply to spirals only; this path ({path.kind}) has none")
+    if bend:
+        k = int(bend.group(1))
+        if not 1 <= k <= len(curved):
+            raise DesignError(key, raw, f"names bend {k}, but the path has bends 1 to {len(curved)} "
+                              "(arcs and spirals counted from the inlet)")
+        i = curved[k - 1]
+        seg = line.segments[i]
+        total = swept_angle(seg)  # type: ignore[arg-type]
+        theta = math.radians(float(bend.group(2)))
+        if not -1e-12 <= theta <= total * (1 + 1e-12):
+            raise DesignError(key, raw, f"lies past the end of bend {k}: the angle must lie in [0, {math.degrees(total):.6g} deg]")
+        theta = min(max(theta, 0.0), total)
+        return float(line.breaks[i]) + _local_arc_length(seg, theta)  # type: ignore[arg-type]
+    theta = math.radians(float(angle.group(1))) if angle else 2 * math.pi * float(turn.group(1))
+    sweeps = [swept_angle(line.segments[i]) for i in curved]  # type: ignore[arg-type]
+    total = float(sum(sweeps))
+    shown = f"{math.degrees(total):.6g} deg" if angle else f"{total / (2 * math.pi):.6g} turns"
+    if not -1e-12 <= theta <= total * (1 + 1e-12):
+        raise DesignError(key, raw, f"lies past the end of the {path.kind}: the angle must lie in [0, {shown}] "
+                          "(swept about the bends' centres from the inlet, left and right turns alike)")
+    theta = min(max(theta, 0.0), total)
+    for i, sweep in zip(curved, sweeps):
+        if theta <= sweep * (1 + 1e-12) or i == curved[-1]:
+            return float(line.breaks[i]) + _local_arc_length(line.segments[i], min(theta, sweep))  # type: ignore[arg-type]
+        theta -= sweep
+    raise AssertionError("unreachable")  # pragma: no cover
 
 
 def _in_range(key: str, raw: Any, s: float, line: Centerline, what: str) -> float:
@@ -51,7 +102,7 @@ def station_arc_length(design: Design, raw: Any, key: str = "--at", line: Center
     line = line or centerline_of(design)
     path = design.path
     if isinstance(raw, bool) or not isinstance(raw, (int, float, str)):
-        raise DesignError(key, raw, "must be a fraction (0.5), a length with unit ('12.5mm'), an angle ('90deg') or 'turn=2.25'")
+        raise DesignError(key, raw, "must be a fraction (0.5), a length with unit ('12.5mm'), an angle ('90deg', 'bend=2:45deg') or 'turn=2.25'")
     if isinstance(raw, (int, float)):
         if not (math.isfinite(raw) and 0.0 <= raw <= 1.0):
             raise DesignError(key, raw, "a plain number is a fraction of the centreline length and must lie in [0, 1]; "
@@ -64,33 +115,15 @@ def station_arc_length(design: Design, raw: Any, key: str = "--at", line: Center
         as_number = None
     if as_number is not None:
         return station_arc_length(design, as_number, key, line)
+    bend = _BEND.match(text)
     angle, turn = _ANGLE.match(text), _TURN.match(text)
-    if angle or turn:
-        if turn and not isinstance(path, SpiralPath):
-            raise DesignError(key, raw, f"'turn=' stations apply to spirals only; this path is a {path.kind}")
-        if not isinstance(path, (ArcPath, SpiralPath)):
-            raise DesignError(key, raw, f"angle stations apply to arcs and spirals only; this path is a {path.kind}: "
-                              "give a fraction or a length with unit")
-        theta = math.radians(float(angle.group(1))) if angle else 2 * math.pi * float(turn.group(1))  # type: ignore[union-attr]
-        total = math.radians(path.angle) if isinstance(path, ArcPath) else 2 * math.pi * path.turns
-        shown = f"{math.degrees(total):.6g} deg" if angle else f"{path.turns:g} turns"  # type: ignore[union-attr]
-        if not -1e-12 <= theta <= total * (1 + 1e-12):
-            raise DesignError(key, raw, f"lies past the end of the {path.kind}: the angle must lie in [0, {shown}] "
-                              "(measured from the start of the curved part, after any inlet lead)")
-        theta = min(max(theta, 0.0), total)
-        if isinstance(path, ArcPath):
-            i, s0 = _body(line, "bend")
-            return s0 + path.radius * theta
-        i, s0 = _body(line, "spiral")
-        seg = line.segments[i]
-        if not isinstance(seg, Spiral):  # pragma: no cover - centerline_of always builds one
-            raise TypeError(f"spiral segment expected, got {seg!r}")
-        return s0 + float(seg.arclength_at(np.array(theta)))
+    if angle or turn or bend:
+        return _angle_station(design, raw, key, line, angle, turn, bend)
     try:
         s = parse_length(key, text)
     except DesignError:
         raise DesignError(key, raw, "is not a station: write a fraction (0.5), a length with unit ('12.5mm'), "
-                          "an angle ('90deg', arcs and spirals) or 'turn=2.25' (spirals)") from None
+                          "an angle ('90deg' over all bends, 'bend=2:45deg' into one) or 'turn=2.25' (spirals)") from None
     return _in_range(key, raw, s, line, "an arc length")
 
 
