@@ -121,7 +121,7 @@ def test_patches_and_zones(built):
         assert a == pytest.approx(200e-6 * 80e-6, rel=1e-12)
     # zones: internal faces only, zone normal (flipMap applied) downstream, area = the section's
     from chanmesh.geometry.centerline import centerline_of
-    from chanmesh.post.stations import mesh_station_arc_lengths
+    from chanmesh.geometry.stations import mesh_station_arc_lengths
 
     stations = mesh_station_arc_lengths(design)
     assert [z for z, _ in case.zones] == [f"section_{k + 1}" for k in range(len(stations))]

@@ -55,7 +55,7 @@ def operating_point(design: Design) -> "Operating":
 def section_directions(design: Design) -> dict[str, np.ndarray]:
     """Downstream unit vector (the centreline tangent) at each ``section_k`` station."""
     from chanmesh.geometry.centerline import centerline_of
-    from chanmesh.post.stations import mesh_station_arc_lengths
+    from chanmesh.geometry.stations import mesh_station_arc_lengths
 
     stations = mesh_station_arc_lengths(design)
     if not stations:
