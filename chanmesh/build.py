@@ -68,7 +68,10 @@ def build_request(formats: tuple[str, ...], options: WriteOptions, scale: float 
     """What was asked of a build besides the design (hashed into ``design_hash``): formats
     (checked, duplicates dropped), MSH options and the refinement scale."""
     chosen = [format_named(f).name for f in dict.fromkeys(formats)]
-    return {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    request = {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    if not options.msh_sections:  # only when asked, so that earlier builds keep their design hash
+        request["msh_sections"] = False
+    return request
 
 
 def build(

@@ -20,6 +20,7 @@ from chanmesh.meshing.model import ChannelMesh
 class WriteOptions:
     msh_version: str = "4.1"  # "4.1" | "2.2"
     binary: bool = False
+    msh_sections: bool = True  # False: MSH without the internal section_k surfaces (for gmshToFoam)
 
 
 @dataclass(frozen=True)
