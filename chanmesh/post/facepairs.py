@@ -87,45 +87,77 @@ def pair_faces_sorted(faces: np.ndarray) -> np.ndarray:
 
 
 def pair_keys(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
-    """Partner of each face given its three smallest nodes ``a < b < c`` (m,), or -1.
+    """Partner of each face given its three smallest nodes ``a < b < c`` (m,), or -1."""
+    first, second, _ = match_keys(a, b, c)
+    partner = np.full(len(a), -1, np.int64)
+    partner[first], partner[second] = second, first
+    return partner
 
-    Each face gets a 40-bit hash of (a, b, c) with its index packed below it, and the packed
-    values are sorted (a plain value sort, several times faster in numpy than an argsort): faces
-    with equal nodes become neighbours. A run of two whose nodes really agree is a pair; a run
-    of one is a face without partner; the rare rest (hash collisions, non-manifold faces) goes
-    to ``pair_faces``, which is exact and raises on a non-manifold mesh.
+
+def match_keys(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Faces paired by their three smallest nodes ``a < b < c`` (m,): (first, second, lone),
+    the indices of the two faces of every pair and of the faces without partner.
+
+    Each face gets a hash of (a, b, c) with its index packed below it in one int64, and the
+    packed values are sorted (a plain value sort, several times faster in numpy than an
+    argsort): faces with equal nodes become neighbours. A run of two whose nodes really agree
+    is a pair; a run of one is a lone face; the rare rest (hash collisions, non-manifold faces)
+    goes to ``pair_faces``, which is exact and raises on a non-manifold mesh.
     """
     m = len(a)
-    if m == 0:
-        return np.zeros(0, np.int64)
-    if m >= 1 << 23:  # the index no longer fits below a 40-bit hash
-        return pair_faces(np.stack([a, b, c], axis=1))
-    with np.errstate(over="ignore"):
-        h = a.astype(np.uint64) * _MIX[0]
-        h ^= b.astype(np.uint64) * _MIX[1]
-        h ^= c.astype(np.uint64) * _MIX[2]
-    h >>= np.uint64(24)  # 40 bits
+    index_bits = max(1, (m - 1).bit_length())
+    hash_bits = 63 - index_bits
+    if hash_bits < 24:  # too many faces for a useful hash beside the index
+        partner = pair_faces(np.stack([a, b, c], axis=1))
+        first = np.flatnonzero(partner > np.arange(m))
+        return first, partner[first], np.flatnonzero(partner < 0)
+    with np.errstate(over="ignore"):  # in place: two 8-byte arrays at most
+        h = a.astype(np.uint64)
+        h *= _MIX[0]
+        t = b.astype(np.uint64)
+        t *= _MIX[1]
+        h ^= t
+        np.copyto(t, c, casting="unsafe")
+        t *= _MIX[2]
+        h ^= t
+        del t
+    h >>= np.uint64(64 - hash_bits)
     packed = h.view(np.int64)
-    packed <<= 23
+    del h
+    packed <<= index_bits
     packed |= np.arange(m, dtype=np.int64)
     packed.sort()
-    idx = packed & ((1 << 23) - 1)
-    packed >>= 23
-    start = np.ones(m, bool)
-    np.not_equal(packed[1:], packed[:-1], out=start[1:])
-    del packed, h
-    bounds = np.flatnonzero(np.append(start, True))
-    run_len = np.diff(bounds)
-    first = bounds[:-1]
-    partner = np.full(m, -1, np.int64)
-    two = first[run_len == 2]
-    i, j = idx[two], idx[two + 1]
-    real = (a[i] == a[j]) & (b[i] == b[j]) & (c[i] == c[j])
-    partner[i[real]], partner[j[real]] = j[real], i[real]
-    many = np.flatnonzero(np.repeat(run_len > 2, run_len))
-    odd = np.concatenate([i[~real], j[~real], idx[many]])
-    if len(odd):
-        sub = pair_faces(np.stack([a[odd], b[odd], c[odd]], axis=1))
-        hit = sub >= 0
-        partner[odd[hit]] = odd[sub[hit]]
-    return partner
+    idx = (packed & ((1 << index_bits) - 1)).astype(np.int32 if m < 2**31 else np.int64)
+    packed >>= index_bits
+    same = packed[1:] == packed[:-1]  # same[k]: sorted faces k and k + 1 share a hash
+    del packed
+    if not np.any(same[1:] & same[:-1]):  # runs of one or two only (the usual case)
+        head = np.flatnonzero(same)
+        i, j = idx[head], idx[head + 1]
+        in_pair = np.zeros(m, bool)
+        in_pair[head] = True
+        in_pair[head + 1] = True
+        lone = idx[~in_pair]
+        del in_pair, head
+        real = (a[i] == a[j]) & (b[i] == b[j]) & (c[i] == c[j])
+        if real.all():
+            return i, j, lone
+        odd = np.concatenate([i[~real], j[~real]])
+        i, j = i[real], j[real]
+    else:  # a hash shared by three or more faces: sort that out exactly below
+        start = np.ones(m + 1, bool)
+        start[1:m] = ~same
+        bounds = np.flatnonzero(start)
+        run_len = np.diff(bounds)
+        head = bounds[:-1]
+        lone = idx[head[run_len == 1]]
+        two = head[run_len == 2]
+        i, j = idx[two], idx[two + 1]
+        real = (a[i] == a[j]) & (b[i] == b[j]) & (c[i] == c[j])
+        many = idx[np.flatnonzero(np.repeat(run_len > 2, run_len))]
+        odd = np.concatenate([i[~real], j[~real], many])
+        i, j = i[real], j[real]
+    sub = pair_faces(np.stack([a[odd], b[odd], c[odd]], axis=1))
+    pairs = np.flatnonzero(sub > np.arange(len(odd)))
+    return (np.concatenate([i, odd[pairs]]), np.concatenate([j, odd[sub[pairs]]]),
+            np.concatenate([lone, odd[sub < 0]]))

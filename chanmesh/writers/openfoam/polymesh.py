@@ -23,7 +23,7 @@ import numpy as np
 from chanmesh.errors import ChanmeshError
 from chanmesh.meshing.model import ChannelMesh, Group
 from chanmesh.meshing.verify import FACES, INTERNAL_PREFIX
-from chanmesh.post.facepairs import pair_keys, sorted_order, three_smallest_columns
+from chanmesh.post.facepairs import match_keys, sorted_order, three_smallest_columns
 
 
 class PolyMeshError(ChanmeshError):
@@ -79,9 +79,6 @@ class _Faces:
     cols: list[np.ndarray]
     cell: np.ndarray
 
-    def take(self, sel: np.ndarray) -> "_Faces":
-        return _Faces([c[sel] for c in self.cols], self.cell[sel])
-
 
 def _cell_faces(mesh: ChannelMesh, size: int, dtype: type) -> _Faces | None:
     """Every face of ``size`` nodes of every volume cell, in the cell's outward order."""
@@ -90,11 +87,13 @@ def _cell_faces(mesh: ChannelMesh, size: int, dtype: type) -> _Faces | None:
     offset = 0
     for block in mesh.volumes:
         local = FACES[block.type][0 if size == 3 else 1]
-        ids = np.arange(offset, offset + len(block.cells), dtype=np.int64)
-        for face in local:
-            for r, corner in enumerate(face):
-                cols[r].append(block.cells[:, corner].astype(dtype))
-            cells.append(ids)
+        if local:
+            corners = np.ascontiguousarray(block.cells.T, dtype=dtype)  # one row per corner: contiguous gathers
+            ids = np.arange(offset, offset + len(block.cells), dtype=dtype)
+            for face in local:
+                for r, corner in enumerate(face):
+                    cols[r].append(corners[corner])
+                cells.append(ids)
         offset += len(block.cells)
     if not cells:
         return None
@@ -103,14 +102,15 @@ def _cell_faces(mesh: ChannelMesh, size: int, dtype: type) -> _Faces | None:
 
 def _match(keys: tuple[np.ndarray, ...], facets: np.ndarray, what: str) -> tuple[np.ndarray, np.ndarray]:
     """Pair faces given by their three smallest nodes ``keys`` with facet rows ``facets``:
-    (index of the face, index of the facet) for every facet that is one of the faces."""
+    (index of the face, index of the facet) for every facet, which must each be one of the faces."""
     f = three_smallest_columns([facets[:, r] for r in range(facets.shape[1])])
     n = len(keys[0])
-    partner = pair_keys(*(np.concatenate([k.astype(np.int64), fk.astype(np.int64)]) for k, fk in zip(keys, f)))
-    facet_partner = partner[n:]
-    if np.any(facet_partner < 0) or np.any(facet_partner >= n):
-        raise PolyMeshError(f"{int(np.sum((facet_partner < 0) | (facet_partner >= n)))} {what} facets are not faces of the mesh")
-    return facet_partner, np.arange(len(facets))
+    first, second, _ = match_keys(*(np.concatenate([k.astype(np.int64), fk.astype(np.int64)]) for k, fk in zip(keys, f)))
+    face, facet = np.minimum(first, second), np.maximum(first, second) - n
+    ok = (face < n) & (facet >= 0)
+    if not ok.all() or len(facet) != len(facets):
+        raise PolyMeshError(f"{len(facets) - int(ok.sum())} {what} facets are not faces of the mesh")
+    return face, facet
 
 
 def _facets_of_size(mesh: ChannelMesh, size: int, tags: set[int]) -> tuple[np.ndarray, np.ndarray]:
@@ -139,111 +139,133 @@ def _area_vectors(points: np.ndarray, offsets: np.ndarray, nodes: np.ndarray, fa
     return out
 
 
+@dataclass
+class _Part:
+    """Faces of one size chosen for the polyMesh: which copies (``pick``), their owner, and the
+    neighbour (internal) or patch index (boundary)."""
+
+    faces: _Faces
+    pick: np.ndarray
+    owner: np.ndarray
+    other: np.ndarray
+
+
 def poly_mesh(mesh: ChannelMesh, downstream: dict[str, np.ndarray] | None = None) -> PolyMesh:
     """The polyMesh of ``mesh``. ``downstream`` maps a ``section_*`` group name to the unit
     vector its zone normal must point along (the flipMap is set per face so that it does);
     zones without one keep the owner-to-neighbour normal."""
     downstream = downstream or {}
     n_cells = mesh.n_volume_cells
-    dtype = np.int32 if len(mesh.points) < 2**31 - 1 else np.int64
+    dtype = np.int32 if max(len(mesh.points), n_cells) < 2**31 - 1 else np.int64
     surface = [g for g in mesh.groups if g.dim == 2]
     sections = [g for g in surface if g.name.startswith(INTERNAL_PREFIX)]
     boundary_groups = [g for g in surface if not g.name.startswith(INTERNAL_PREFIX)]
-    patch_index = {g.tag: i for i, g in enumerate(boundary_groups)}
+    lut = np.full(max([g.tag for g in surface], default=0) + 1, -1, np.int64)
+    for i, g in enumerate(boundary_groups):
+        lut[g.tag] = i
 
-    internal: list[tuple[_Faces, np.ndarray]] = []  # (faces, neighbour)
-    boundary: list[tuple[_Faces, np.ndarray]] = []  # (faces, patch index)
-    zone_parts: list[tuple[int, int, np.ndarray, np.ndarray]] = []  # (size, part, face index, tag)
+    internal: list[_Part] = []
+    boundary: list[_Part] = []
     for size in (3, 4):
         faces = _cell_faces(mesh, size, dtype)
         if faces is None:
             continue
         a, b, c = three_smallest_columns(faces.cols)
-        partner = pair_keys(a, b, c)
-        other = np.where(partner >= 0, faces.cell[np.maximum(partner, 0)], -1)
-        keep = (partner >= 0) & (faces.cell < other)
-        if np.any((partner >= 0) & (faces.cell == other)):
+        first, second, lone = match_keys(a, b, c)
+        c1, c2 = faces.cell[first], faces.cell[second]
+        if np.any(c1 == c2):
             raise PolyMeshError("a cell has two faces on the same nodes")
-        inner = faces.take(keep)
-        neighbour = other[keep]
-        # boundary faces -> patch of the facet on the same nodes
-        out = partner < 0
-        bfaces = faces.take(out)
-        facets, ftags = _facets_of_size(mesh, size, set(patch_index))
-        if len(bfaces.cell) != len(facets):
-            raise PolyMeshError(f"{len(bfaces.cell)} boundary faces of {size} nodes but {len(facets)} boundary facets")
+        swap = c1 > c2  # keep the copy of the lower cell: it points out of the owner
+        internal.append(_Part(faces, np.where(swap, second, first), np.minimum(c1, c2), np.maximum(c1, c2)))
+        del c1, c2, swap, first, second
+        facets, ftags = _facets_of_size(mesh, size, {g.tag for g in boundary_groups})
+        if len(lone) != len(facets):
+            raise PolyMeshError(f"{len(lone)} boundary faces of {size} nodes but {len(facets)} boundary facets")
         if len(facets):
-            face_of, facet_idx = _match((a[out], b[out], c[out]), facets, "boundary")
-            lut = np.full(max(patch_index) + 1, -1, np.int64)
-            lut[list(patch_index)] = list(patch_index.values())
-            pidx = np.empty(len(facets), np.int64)
-            pidx[face_of] = lut[ftags[facet_idx]]
-            boundary.append((bfaces, pidx))
-        # section facets -> internal faces
-        sfacets, stags = _facets_of_size(mesh, size, {g.tag for g in sections})
-        if len(sfacets):
-            on = np.zeros(len(mesh.points), bool)
-            on[sfacets.ravel()] = True
-            cand = np.flatnonzero(np.logical_and.reduce([on[col] for col in inner.cols]))
-            ka, kb, kc = three_smallest_columns([col[cand] for col in inner.cols])
-            face_of, facet_idx = _match((ka, kb, kc), sfacets, "section")
-            zone_parts.append((size, len(internal), cand[face_of], stags[facet_idx]))
-        internal.append((inner, neighbour))
+            face, facet = _match((a[lone], b[lone], c[lone]), facets, "boundary")
+            patch = np.empty(len(lone), np.int64)
+            patch[face] = lut[ftags[facet]]
+            boundary.append(_Part(faces, lone, faces.cell[lone], patch))
+        del a, b, c, faces
 
-    # internal faces in upper-triangular order
-    owner_i = np.concatenate([f.cell for f, _ in internal]) if internal else np.zeros(0, np.int64)
-    neigh_i = np.concatenate([n for _, n in internal]) if internal else np.zeros(0, np.int64)
-    order_i = sorted_order(owner_i * n_cells + neigh_i)
-    # boundary faces grouped per patch, by owner inside a patch
-    owner_b = np.concatenate([f.cell for f, _ in boundary]) if boundary else np.zeros(0, np.int64)
-    patch_b = np.concatenate([p for _, p in boundary]) if boundary else np.zeros(0, np.int64)
+    # internal faces in upper-triangular order, then boundary faces by patch and owner
+    owner_i = _cat([p.owner for p in internal])
+    neigh_i = _cat([p.other for p in internal])
+    order_i = sorted_order(owner_i.astype(np.int64) * n_cells + neigh_i)
+    owner_b = _cat([p.owner for p in boundary])
+    patch_b = _cat([p.other for p in boundary])
     order_b = sorted_order(patch_b * n_cells + owner_b)
-    parts = [f for f, _ in internal] + [f for f, _ in boundary]
-    sizes = np.concatenate([np.full(len(f.cell), len(f.cols), np.int64) for f in parts])
-    order = np.concatenate([order_i, order_b + len(owner_i)])
-    nodes, offsets = _flat_nodes(parts, sizes, order, dtype)
+    nodes, offsets = _flat_nodes(internal + boundary, np.concatenate([order_i, order_b + len(owner_i)]), dtype)
+    del internal, boundary
     owner = np.concatenate([owner_i[order_i], owner_b[order_b]])
     neighbour = neigh_i[order_i]
+    del owner_i, neigh_i, owner_b, order_i, order_b
 
+    zones = _zones(mesh, sections, offsets, nodes, len(neighbour), downstream)
     points, nodes = _compact_points(mesh.points, nodes)
     counts = np.bincount(patch_b, minlength=len(boundary_groups))
-    starts = len(owner_i) + np.concatenate([[0], np.cumsum(counts)[:-1]])
+    starts = len(neighbour) + np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(np.int64)
     patches = [Patch(g.name, patch_type(g), int(s), int(n)) for g, s, n in zip(boundary_groups, starts, counts)]
-
-    inverse = np.empty(len(order_i), np.int64)
-    inverse[order_i] = np.arange(len(order_i))
-    first_of_part = np.concatenate([[0], np.cumsum([len(f.cell) for f, _ in internal])])
-    zones = []
-    for g in sections:
-        labels = [inverse[first_of_part[part] + idx[tags == g.tag]] for _, part, idx, tags in zone_parts]
-        faces = np.sort(np.concatenate(labels)) if labels else np.zeros(0, np.int64)
-        flip = np.zeros(len(faces), bool)
-        if g.name in downstream and len(faces):
-            flip = _area_vectors(points, offsets, nodes, faces) @ np.asarray(downstream[g.name], float) < 0
-        zones.append(Zone(g.name, faces, flip))
     return PolyMesh(points, offsets, nodes, owner, neighbour, n_cells, patches, zones)
 
 
-def _flat_nodes(parts: list[_Faces], sizes: np.ndarray, order: np.ndarray, dtype: type) -> tuple[np.ndarray, np.ndarray]:
-    """Face nodes of ``parts`` (concatenated, then taken in ``order``) as one flat list and offsets."""
-    sizes = sizes[order]
+def _cat(arrays: list[np.ndarray]) -> np.ndarray:
+    return np.concatenate(arrays) if arrays else np.zeros(0, np.int64)
+
+
+def _zones(mesh: ChannelMesh, sections: list[Group], offsets: np.ndarray, nodes: np.ndarray,
+           n_internal: int, downstream: dict[str, np.ndarray]) -> list[Zone]:
+    """A face zone per section group: the internal faces on its facets, flipped to point downstream."""
+    if not sections:
+        return []
+    zone_faces: dict[int, list[np.ndarray]] = {g.tag: [] for g in sections}
+    for size in (3, 4):
+        sfacets, stags = _facets_of_size(mesh, size, set(zone_faces))
+        if not len(sfacets):
+            continue
+        # internal faces of this size whose nodes all lie on section facets
+        on = np.zeros(len(mesh.points), bool)
+        on[sfacets.ravel()] = True
+        sizes = np.diff(offsets[:n_internal + 1])
+        rows = np.flatnonzero((sizes == size) & on[nodes[offsets[:n_internal]]])  # first node on a section
+        table = nodes[offsets[rows][:, None] + np.arange(size)[None, :]]
+        cand = np.flatnonzero(on[table].all(axis=1))
+        keys = three_smallest_columns([table[cand, r] for r in range(size)])
+        face, facet = _match(keys, sfacets, "section")
+        labels = rows[cand[face]]
+        for tag in zone_faces:
+            zone_faces[tag].append(labels[stags[facet] == tag])
+    zones = []
+    for g in sections:
+        faces = np.sort(np.concatenate(zone_faces[g.tag])) if zone_faces[g.tag] else np.zeros(0, np.int64)
+        flip = np.zeros(len(faces), bool)
+        if g.name in downstream and len(faces):
+            flip = _area_vectors(mesh.points, offsets, nodes, faces) @ np.asarray(downstream[g.name], float) < 0
+        zones.append(Zone(g.name, faces, flip))
+    return zones
+
+
+def _flat_nodes(parts: list[_Part], order: np.ndarray, dtype: type) -> tuple[np.ndarray, np.ndarray]:
+    """Nodes of the chosen faces of ``parts`` (concatenated, then taken in ``order``) as one flat
+    list and the offsets of each face in it."""
+    sizes = np.concatenate([np.full(len(p.pick), len(p.faces.cols), np.int64) for p in parts])[order]
     offsets = np.zeros(len(sizes) + 1, np.int64)
     np.cumsum(sizes, out=offsets[1:])
-    if len({len(f.cols) for f in parts}) == 1:  # one face size: a plain (m, k) table
-        k = len(parts[0].cols)
-        table = np.empty((len(order), k), dtype)
+    k = max(len(p.faces.cols) for p in parts)
+    table = np.full((len(order), k), -1, dtype)
+    if len({len(p.faces.cols) for p in parts}) == 1 and len({id(p.faces) for p in parts}) == 1:
+        pick = np.concatenate([p.pick for p in parts])[order]  # one face list: one gather per column
         for r in range(k):
-            table[:, r] = np.concatenate([f.cols[r] for f in parts])[order]
-        return table.reshape(-1), offsets
-    table = np.full((len(order), 4), -1, np.int64)
-    row = 0
-    for f in parts:
-        for r, col in enumerate(f.cols):
-            table[row:row + len(col), r] = col
-        row += len(f.cell)
-    table = table[order]
+            table[:, r] = parts[0].faces.cols[r][pick]
+    else:
+        row = 0
+        for p in parts:
+            for r, col in enumerate(p.faces.cols):
+                table[row:row + len(p.pick), r] = col[p.pick]
+            row += len(p.pick)
+        table = table[order]
     flat = table.reshape(-1)
-    return flat[flat >= 0].astype(dtype), offsets
+    return (flat if k == 3 or np.all(sizes == k) else flat[flat >= 0]), offsets
 
 
 def _compact_points(points: np.ndarray, nodes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
