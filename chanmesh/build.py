@@ -67,6 +67,8 @@ def check_estimate(design: Design, scale: float = 1.0) -> int:
 def build_request(formats: tuple[str, ...], options: WriteOptions, scale: float = 1.0) -> dict[str, Any]:
     """What was asked of a build besides the design (hashed into ``design_hash``): formats
     (checked, duplicates dropped), MSH options and the refinement scale."""
+    if not formats:
+        raise DesignError("--format", "", "names no format; give at least one, e.g. msh,xdmf,vtu")
     chosen = [format_named(f).name for f in dict.fromkeys(formats)]
     request = {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
     if not options.msh_sections:  # only when asked, so that earlier builds keep their design hash
@@ -84,11 +86,11 @@ def build(
 ) -> BuildResult:
     """Build ``design`` into folder ``out``; returns the files and the manifest."""
     clock = clock or StageClock(quiet=True)
+    request = build_request(formats, options, scale)
     chosen = [format_named(f) for f in dict.fromkeys(formats)]
     for fmt in chosen:
         fmt.check_design(design)
     estimate = check_estimate(design, scale)
-    request = build_request(formats, options, scale)
     with StagedOutput(Path(out)) as staged:
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
         counts = check_boundary_tagging(mesh)

@@ -69,13 +69,14 @@ def file_sha256(path: Path) -> str:
 def analytic_sizes(design: Design) -> dict[str, float]:
     """Exact size of each named group where one exists (m^2 for surfaces, m^3 for the volume)."""
     ref = reference_of(design)
-    out = {"inlet": ref.inlet_area, "wall": ref.wall_area, "fluid": ref.volume}
-    split = design.outlets.split
-    if len(split) > 1 and design.section.shape == "rectangle":
-        for name, frac in zip(design.outlets.names, split):
-            out[name] = frac * ref.outlet_area
-    elif len(split) <= 1:
-        out["outlet"] = ref.outlet_area
+    out = {"wall": ref.wall_area, "fluid": ref.volume}
+    for port, area in ((design.inlets, ref.inlet_area), (design.outlets, ref.outlet_area)):
+        split = port.split
+        if len(split) > 1 and design.section.shape == "rectangle":
+            for name, frac in zip(port.names, split):
+                out[name] = frac * area
+        elif len(split) <= 1:
+            out[port.prefix] = area
     return out
 
 
@@ -152,12 +153,17 @@ def read_manifest(folder: Path) -> dict[str, Any] | None:
 
 
 def manifest_is_current(folder: Path, expected_hash: str) -> bool:
-    """True if ``folder`` holds a complete build for ``expected_hash`` whose files still match."""
+    """True if ``folder`` holds a complete build for ``expected_hash`` whose files still match:
+    every file the manifest lists exists with its recorded size and SHA-256 (a deleted,
+    truncated or altered file makes the output stale, so a sweep or family rebuilds it)."""
     m = read_manifest(folder)
     if not m or m.get("design_hash") != expected_hash:
         return False
-    for entry in m.get("files", []):
+    files = m.get("files")
+    if not isinstance(files, list):
+        return False
+    for entry in files:
         p = Path(folder) / entry["name"]
-        if not p.is_file() or p.stat().st_size != entry["bytes"]:
+        if not p.is_file() or p.stat().st_size != entry["bytes"] or file_sha256(p) != entry["sha256"]:
             return False
     return True

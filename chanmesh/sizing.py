@@ -15,6 +15,11 @@ import numpy as np
 from scipy.optimize import brentq
 
 from chanmesh.design.model import Design
+from chanmesh.errors import DesignError, Shown
+
+MAX_RATIO = 50.0
+"""Largest growth ratio a ``first_cell`` may imply (``ratio_for_first_cell`` searches up to it;
+the feasibility checks refuse a ``first_cell`` needing more across the width)."""
 
 
 def _half_counts(n: int) -> tuple[int, bool]:
@@ -35,13 +40,23 @@ def first_cell(length: float, n: int, ratio: float) -> float:
 
 
 def ratio_for_first_cell(length: float, n: int, first: float) -> float:
-    """Growth ratio that makes the wall-adjacent cell ``first`` long (inverse of ``first_cell``)."""
+    """Growth ratio that makes the wall-adjacent cell ``first`` long (inverse of ``first_cell``).
+
+    Lengths in metres. A ``first`` so small that no ratio up to ``MAX_RATIO`` reaches it is a
+    ``DesignError`` on ``mesh.first_cell`` (the only key that asks for a first cell)."""
     uniform = length / n
     if first > uniform * (1 + 1e-12):
         raise ValueError(f"first cell {first:g} is longer than the uniform cell {uniform:g}")
     if abs(first - uniform) <= 1e-12 * uniform or n <= 2:
         return 1.0
-    return float(brentq(lambda g: first_cell(length, n, g) - first, 1.0 + 1e-12, 50.0, xtol=1e-14, rtol=1e-14))
+    smallest = first_cell(length, n, MAX_RATIO)
+    if first < smallest:
+        raise DesignError(
+            "mesh.first_cell", Shown(f"{first * 1e6:.4g} um"),
+            f"is too small for {n} cells over {length * 1e6:.4g} um: it needs a growth ratio above "
+            f"{MAX_RATIO:g} (smallest reachable first cell {smallest * 1e6:.3g} um); give a larger first_cell or more cells",
+        )
+    return float(brentq(lambda g: first_cell(length, n, g) - first, 1.0 + 1e-12, MAX_RATIO, xtol=1e-14, rtol=1e-14))
 
 
 def graded_nodes(length: float, n: int, ratio: float) -> np.ndarray:

@@ -6,6 +6,7 @@ happens once, where text from a user is read.
 
 from __future__ import annotations
 
+import math
 import re
 
 from chanmesh.errors import DesignError
@@ -34,7 +35,11 @@ _FLOW_UNITS: dict[str, float] = {
 
 _VELOCITY_UNITS: dict[str, float] = {"m/s": 1.0, "mm/s": 1e-3, "cm/s": 1e-2, "um/s": 1e-6, "µm/s": 1e-6}
 
-_NUMBER_THEN_UNIT = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_NUMBER_THEN_UNIT = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*", re.DOTALL)
+
+MAX_LENGTH = 10.0
+"""Largest length (m) any key or option accepts. A chip is centimetres across; far larger values
+are typing slips (``1e400um`` overflows to infinity) and would overflow areas and volumes."""
 
 
 def length_unit(key: str, unit: object) -> float:
@@ -46,14 +51,16 @@ def length_unit(key: str, unit: object) -> float:
 
 def split_quantity(key: str, text: object) -> tuple[float, str]:
     """Split ``"1.2 mL/min"`` into ``(1.2, "mL/min")``; the unit may be empty."""
+    unit = ""
     if isinstance(text, (int, float)) and not isinstance(text, bool):
-        return float(text), ""
-    if not isinstance(text, str):
+        number = float(text)
+    elif isinstance(text, str) and (match := _NUMBER_THEN_UNIT.fullmatch(text)) is not None:
+        number, unit = float(match.group(1)), match.group(2)
+    else:
         raise DesignError(key, text, "must be a number followed by a unit, e.g. '1.2mL/min'")
-    match = _NUMBER_THEN_UNIT.match(text)
-    if match is None:
-        raise DesignError(key, text, "must be a number followed by a unit, e.g. '1.2mL/min'")
-    return float(match.group(1)), match.group(2)
+    if not math.isfinite(number):
+        raise DesignError(key, text, "must be a finite number (this one overflows to infinity)")
+    return number, unit
 
 
 def to_metres(value: float, unit: str) -> float:
@@ -77,9 +84,16 @@ def _convert(key: str, text: object, table: dict[str, float], example: str) -> f
 
 
 def parse_length(key: str, text: object) -> float:
-    """A length with its unit (``'12.5mm'``) in metres."""
+    """A length with its unit (``'12.5mm'``) in metres; at most ``MAX_LENGTH`` in size."""
     number, unit = _unit_of(key, text, PER_METRE, "12.5mm")
-    return to_metres(number, unit)
+    return finite_length(key, text, to_metres(number, unit))
+
+
+def finite_length(key: str, shown: object, metres: float) -> float:
+    """``metres`` if it is finite and at most ``MAX_LENGTH`` in size; ``DesignError`` otherwise."""
+    if not math.isfinite(metres) or abs(metres) > MAX_LENGTH:
+        raise DesignError(key, shown, f"must be a finite length of at most {MAX_LENGTH:g} m")
+    return metres
 
 
 def parse_flow_rate(key: str, text: object) -> float:

@@ -144,14 +144,72 @@ def test_output_folder_that_cannot_be_created(tmp_path, capsys):
     assert "cannot be created" in capsys.readouterr().err
 
 
-@pytest.mark.skipif(os.geteuid() == 0, reason="root ignores folder permissions")
+def _run_as_nobody(argv: list[str]) -> tuple[int, str]:
+    """Run ``main(argv)`` in a forked child that has dropped root for uid/gid 65534 (nobody), so
+    folder permissions apply as they do for any user; returns (exit code, stderr)."""
+    import io
+    import sys
+
+    # everything the command imports up to its folder check is imported here, before the fork:
+    # the child may not read root's files (the interpreter may live under /root). A build into
+    # a folder that cannot be created walks the same path and stops at the same check.
+    blocker = Path(argv[1]).parent / "plain"
+    blocker.write_text("a file")
+    main(argv[:2] + ["--out", str(blocker / "sub")])
+    sys.stderr.flush()
+
+    read, write = os.pipe()
+    pid = os.fork()
+    if pid == 0:  # child
+        code, err = 99, ""
+        try:
+            os.close(read)
+            os.setgroups([])
+            os.setgid(65534)
+            os.setuid(65534)
+            sys.stderr = io.StringIO()
+            code = main(argv)
+            err = sys.stderr.getvalue()
+        except BaseException as exc:  # noqa: BLE001 - report anything to the parent
+            err = f"child failed: {exc!r}"
+        finally:
+            os.write(write, f"{code}\n{err}".encode())
+            os._exit(0)
+    os.close(write)
+    with os.fdopen(read) as fh:
+        text = fh.read()
+    os.waitpid(pid, 0)
+    code, _, err = text.partition("\n")
+    return int(code), err
+
+
 def test_output_folder_not_writable(tmp_path, capsys):
-    f = tmp_path / "d.toml"
-    f.write_text(GOOD)
-    locked = tmp_path / "locked"
-    locked.mkdir(mode=0o500)
-    assert main(["build", str(f), "--out", str(locked)]) == 2
-    assert "not writable" in capsys.readouterr().err
+    """A folder the user may not write into gives one line and exit 2. Root ignores folder
+    permissions, so as root (how CI runs) the build runs in a child that dropped to nobody."""
+    import tempfile
+
+    base = Path(tempfile.mkdtemp(prefix="chanmesh-perm-", dir="/tmp"))
+    try:
+        base.chmod(0o755)
+        f = base / "d.toml"
+        f.write_text(GOOD)
+        f.chmod(0o644)
+        locked = base / "locked"
+        locked.mkdir(mode=0o500)
+        locked.chmod(0o555)  # readable and enterable by anyone, writable by no one but root
+        argv = ["build", str(f), "--out", str(locked)]
+        if os.geteuid() == 0:
+            code, err = _run_as_nobody(argv)
+        else:
+            code, err = main(argv), capsys.readouterr().err
+        assert code == 2, err
+        assert "not writable" in err and len(err.strip().splitlines()) == 1
+        assert list(locked.iterdir()) == []
+    finally:
+        (base / "locked").chmod(0o755)
+        import shutil
+
+        shutil.rmtree(base, ignore_errors=True)
 
 
 def _snapshot(folder: Path) -> dict[str, str]:
@@ -209,3 +267,34 @@ def test_names_cannot_escape_the_output_folder(name):
     out = Path("/tmp/chanmesh-out").resolve()
     for suffix in (".msh", ".vtu", "_facets.xdmf", "_groups.json"):
         assert (out / f"{design.name}{suffix}").resolve().parent == out
+
+
+@pytest.mark.xfail(strict=True, reason="StagedOutput.commit removes the old manifest and moves files one by one; "
+                   "the 'robust' helper is fixing it (remove this mark when that lands)")
+def test_failed_commit_leaves_the_previous_output_complete(tmp_path, monkeypatch):
+    """The rename step itself fails half-way (the second file cannot be moved into place): the
+    folder must still hold the previous complete output, every file matching its manifest."""
+    import chanmesh.safeio as safeio
+
+    design = design_from_dict(__import__("tomllib").loads(GOOD))
+    out = tmp_path / "o"
+    build(design, out, formats=("msh", "vtu"))
+    before = _snapshot(out)
+    real, calls = os.replace, []
+
+    def fail_second(src, dst):
+        calls.append(dst)
+        if len(calls) == 2:
+            raise OSError(errno.EIO, "Input/output error")
+        return real(src, dst)
+
+    monkeypatch.setattr(safeio.os, "replace", fail_second)
+    finer = design_from_dict({**__import__("tomllib").loads(GOOD), "mesh": {"cells_across": 4}})
+    with pytest.raises(OutputError):
+        build(finer, out, formats=("msh", "vtu"))
+    monkeypatch.undo()
+    assert _snapshot(out) == before
+    m = read_manifest(out)
+    assert m is not None and m["design"]["mesh"]["cells_across"] == 3
+    for entry in m["files"]:
+        assert file_sha256(out / entry["name"]) == entry["sha256"]

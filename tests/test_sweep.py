@@ -77,7 +77,7 @@ def test_sweep_killed_midway_then_resumed(tmp_path):
            "--workers", "2", "--format", "msh", "--out", str(out), "--quiet"]
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
     proc = subprocess.Popen(cmd, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-    deadline = time.monotonic() + 45
+    deadline = time.monotonic() + 240  # a guard against a hang only: a loaded machine needs minutes
     while not _manifests(out) and proc.poll() is None and time.monotonic() < deadline:
         time.sleep(0.02)
     proc.send_signal(signal.SIGTERM)  # the sweep is interrupted after its first complete variant
@@ -122,3 +122,48 @@ def test_variant_family_is_built_then_resumed(tmp_path):
     # a variant that breaks a design rule is recorded, not raised
     bad = build_variant(2, data, {"path.angle": 400}, str(tmp_path), request)
     assert bad["status"] == "infeasible" and bad["message"].startswith("path.angle")
+
+
+def _damage(path: Path, how: str) -> None:
+    if how == "delete":
+        path.unlink()
+    elif how == "truncate":
+        path.write_bytes(path.read_bytes()[: path.stat().st_size // 2])
+    else:  # same size, one byte changed: only the SHA-256 tells
+        data = bytearray(path.read_bytes())
+        data[len(data) // 2] ^= 0xFF
+        path.write_bytes(bytes(data))
+
+
+@pytest.mark.parametrize("how", ["delete", "truncate", "change"])
+def test_damaged_finished_variant_is_rebuilt(tmp_path, how):
+    """A finished variant is accepted only if every file its manifest lists exists with the
+    recorded size and SHA-256 (FIPS 180-4 digest, computed here by hashlib); otherwise resume
+    rebuilds it and the files match their manifest again."""
+    import hashlib
+
+    data = parse_design_text(arc_text("sweep-arc", 30, 3))
+    request = SweepRequest(formats=("msh", "vtu"))
+    first = build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)
+    folder = tmp_path / first["path"]
+    assert build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)["status"] == "resumed"
+    _damage(folder / "sweep-arc.vtu", how)
+    again = build_variant(1, data, {"path.angle": 30}, str(tmp_path), request)
+    assert again["status"] == "built"
+    for entry in read_manifest(folder)["files"]:
+        p = folder / entry["name"]
+        assert p.stat().st_size == entry["bytes"] and hashlib.sha256(p.read_bytes()).hexdigest() == entry["sha256"]
+
+
+@pytest.mark.parametrize("how", ["delete", "change"])
+def test_damaged_family_level_is_rebuilt(tmp_path, how):
+    data = parse_design_text(arc_text("sweep-arc", 30, 3))
+    request = SweepRequest(formats=("msh",), family_levels=2, family_ratio=2.0)
+    first = build_variant(1, data, {}, str(tmp_path), request)
+    level = tmp_path / first["path"] / "level-1"
+    before = (level / "manifest.json").stat().st_mtime_ns
+    _damage(level / "sweep-arc.msh", how)
+    again = build_variant(1, data, {}, str(tmp_path), request)
+    assert again["status"] == "built"
+    assert (level / "manifest.json").stat().st_mtime_ns != before  # the damaged level was rebuilt
+    assert build_variant(1, data, {}, str(tmp_path), request)["status"] == "resumed"

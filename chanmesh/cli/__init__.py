@@ -8,7 +8,6 @@ Only this module turns chanmesh's own errors into a one-line message and an exit
 
 from __future__ import annotations
 
-import argparse
 import importlib
 import os
 import pkgutil
@@ -16,6 +15,7 @@ import sys
 from types import ModuleType
 
 from chanmesh import __version__
+from chanmesh.cli.argtypes import OneLineParser
 from chanmesh.errors import ChanmeshError
 
 EXIT_INPUT = 2
@@ -31,8 +31,8 @@ def _commands() -> list[ModuleType]:
     return sorted(mods, key=lambda m: getattr(m, "ORDER", 50))
 
 
-def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+def build_parser() -> OneLineParser:
+    parser = OneLineParser(
         prog="chanmesh",
         description="Labelled, wall-graded 3D meshes of curved microchannels from a design file.",
     )

@@ -21,7 +21,11 @@ ORDER = 10
 
 
 def formats_arg(text: str) -> tuple[str, ...]:
-    return tuple(f.strip() for f in text.split(",") if f.strip())
+    """``'msh,vtu'`` -> ('msh', 'vtu'); at least one name (an empty list would write no mesh)."""
+    names = tuple(f.strip() for f in text.split(",") if f.strip())
+    if not names:
+        raise argparse.ArgumentTypeError(f"{text!r} names no format; give at least one, e.g. msh,xdmf,vtu")
+    return names
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:

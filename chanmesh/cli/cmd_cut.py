@@ -12,6 +12,7 @@ from chanmesh.post.cut import cut
 from chanmesh.post.cut_io import write_cut
 from chanmesh.post.result_file import read_result
 from chanmesh.geometry.stations import station_frame
+from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "cut"
 HELP = "sample a result's velocity on the exact section at a station: streamwise and secondary flow"
@@ -23,8 +24,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--design", type=Path, required=True, help="the design file the mesh was built from")
     p.add_argument("--at", required=True, metavar="STATION", help="station: 0.5, 12.5mm, 90deg or turn=2.25")
     p.add_argument("--field", help="vector field name (default: the only 3-component field)")
-    p.add_argument("--resolution", type=int, default=100, metavar="N", help="samples across the width (default 100)")
-    p.add_argument("--scale", type=float, default=1.0, help="metres per result length unit (default 1: result in metres)")
+    p.add_argument("--resolution", type=whole_number, default=100, metavar="N", help="samples across the width (default 100)")
+    p.add_argument("--scale", type=finite_float, default=1.0, help="metres per result length unit (default 1: result in metres)")
     p.add_argument("--out", type=Path, default=None, help="output folder (default: out/<name>/cut-<station>)")
 
 

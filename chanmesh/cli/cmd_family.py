@@ -10,6 +10,7 @@ from pathlib import Path
 from chanmesh.cli.cmd_build import add_format_arguments, write_options
 from chanmesh.design import load_design
 from chanmesh.family import MAX_LEVELS, RATIO_RANGE, build_family
+from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "family"
 HELP = "build a family of systematically refined meshes (level-1 finest) and family.json for a GCI study"
@@ -18,8 +19,8 @@ ORDER = 55
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("design", type=Path, help="design file (TOML); it becomes the coarsest level")
-    p.add_argument("--levels", type=int, default=3, help=f"number of meshes, 2 to {MAX_LEVELS} (default 3)")
-    p.add_argument("--ratio", type=float, default=1.5,
+    p.add_argument("--levels", type=whole_number, default=3, help=f"number of meshes, 2 to {MAX_LEVELS} (default 3)")
+    p.add_argument("--ratio", type=finite_float, default=1.5,
                    help=f"refinement factor between neighbouring levels, {RATIO_RANGE[0]} to {RATIO_RANGE[1]} (default 1.5)")
     p.add_argument("--out", type=Path, default=None, help="output folder (default: out/<name>-family)")
     add_format_arguments(p)

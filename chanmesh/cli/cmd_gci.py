@@ -11,6 +11,7 @@ from pathlib import Path
 from chanmesh.post.gci import gci_study
 from chanmesh.post.gci_io import format_report, write_report
 from chanmesh.post.gci_table import load_study
+from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "gci"
 HELP = "apparent order, Richardson extrapolation and grid convergence index of a results table"
@@ -21,11 +22,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("results", type=Path, metavar="RESULTS.csv",
                         help="columns: level (1 = finest), cells or h, then one column per quantity")
     parser.add_argument("--family", type=Path, metavar="DIR", help="take h (m) from DIR/family.json, matched by level")
-    parser.add_argument("--dim", type=int, choices=(2, 3), default=3,
+    parser.add_argument("--dim", type=whole_number, choices=(2, 3), default=3,
                         help="dimension for h from cell counts: (V/N)^(1/3) or, with 2, (A/N)^(1/2) (default 3)")
-    parser.add_argument("--volume", type=float, metavar="V", help="domain volume in m^3 for h = (V/N)^(1/3)")
-    parser.add_argument("--area", type=float, metavar="A", help="domain area in m^2 for h = (A/N)^(1/2) (with --dim 2)")
-    parser.add_argument("--order", type=float, default=2.0,
+    parser.add_argument("--volume", type=finite_float, metavar="V", help="domain volume in m^3 for h = (V/N)^(1/3)")
+    parser.add_argument("--area", type=finite_float, metavar="A", help="domain area in m^2 for h = (A/N)^(1/2) (with --dim 2)")
+    parser.add_argument("--order", type=finite_float, default=2.0,
                         help="formal order assumed for a two-grid GCI (default 2, a second-order scheme)")
     parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: the CSV's folder)")
 

@@ -11,6 +11,7 @@ from chanmesh.design.load import load_design
 from chanmesh.errors import DesignError
 from chanmesh.numbers import design_numbers, render, write_json
 from chanmesh.units import parse_flow_rate, parse_length, parse_temperature, parse_velocity, split_quantity
+from chanmesh.cli.argtypes import finite_float
 
 NAME = "numbers"
 HELP = "print Reynolds and Dean numbers, focusing estimates and pressure drop of a design at a flow"
@@ -30,10 +31,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--density", metavar="RHO", help="density, kg/m3 (or with unit g/mL)")
     parser.add_argument("--viscosity", metavar="MU", help="dynamic viscosity, Pa.s (or with unit mPa.s, cP)")
     parser.add_argument("--particles", metavar="SIZES", help="particle diameters with unit, comma separated, e.g. 7um,15um")
-    parser.add_argument("--lift-coefficient", type=float, metavar="F_L", help="lift coefficient f_L (default 0.5)")
-    parser.add_argument("--focus-ratio", type=float, metavar="X", help="F_L/F_D also needed to call a particle focusing (default: not applied)")
-    parser.add_argument("--dean-low", type=float, metavar="DE", help="lower Dean band edge (default 1)")
-    parser.add_argument("--dean-high", type=float, metavar="DE", help="upper Dean band edge (default 30)")
+    parser.add_argument("--lift-coefficient", type=finite_float, metavar="F_L", help="lift coefficient f_L (default 0.5)")
+    parser.add_argument("--focus-ratio", type=finite_float, metavar="X", help="F_L/F_D also needed to call a particle focusing (default: not applied)")
+    parser.add_argument("--dean-low", type=finite_float, metavar="DE", help="lower Dean band edge (default 1)")
+    parser.add_argument("--dean-high", type=finite_float, metavar="DE", help="upper Dean band edge (default 30)")
     parser.add_argument("--biological", action=argparse.BooleanOptionalAction, default=None,
                         help="the fluid is a biological sample (default: guessed from the fluid name)")
     parser.add_argument("--json", metavar="PATH", help="also write the numbers as JSON (SI units) to PATH")

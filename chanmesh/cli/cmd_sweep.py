@@ -13,6 +13,7 @@ from chanmesh.errors import DesignError
 from chanmesh.family import MAX_LEVELS
 from chanmesh.sweep.plan import apply, combine, parse_vary
 from chanmesh.sweep.run import SweepRequest, run_sweep
+from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "sweep"
 HELP = "build every variant of a design (--vary KEY=a:b:n or KEY=v1,v2) on dask; resumable; summary.csv"
@@ -24,10 +25,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--vary", action="append", default=[], metavar="KEY=SPEC",
                    help="a design key and its values: a:b:n (n values from a to b) or v1,v2,... (repeatable)")
     p.add_argument("--zip", action="store_true", help="pair the --vary lists element by element instead of the product")
-    p.add_argument("--family", type=int, default=0, metavar="N", help=f"build a mesh family of N levels (2-{MAX_LEVELS}) per variant")
-    p.add_argument("--ratio", type=float, default=1.5, help="family refinement ratio (default 1.5)")
+    p.add_argument("--family", type=whole_number, default=0, metavar="N", help=f"build a mesh family of N levels (2-{MAX_LEVELS}) per variant")
+    p.add_argument("--ratio", type=finite_float, default=1.5, help="family refinement ratio (default 1.5)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS", help="existing dask scheduler, e.g. tcp://host:8786")
-    p.add_argument("--workers", type=int, default=2, help="worker processes of the local cluster (default 2)")
+    p.add_argument("--workers", type=whole_number, default=2, help="worker processes of the local cluster (default 2)")
     p.add_argument("--out", type=Path, default=None, help="sweep folder (default: out/<name>-sweep)")
     add_format_arguments(p)
 

@@ -20,13 +20,17 @@ from chanmesh.design.model import (
     StraightPath,
 )
 from chanmesh.errors import DesignError, Shown
+from chanmesh.sizing import first_cell
 
 MIN_WALL = 0.05
 """Smallest solid wall between neighbouring channel runs, as a fraction of the width
 (common practice, no source: bonding needs some land between channels)."""
 
-NAME_PATTERN = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$")
+NAME_PATTERN = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]{0,79}")  # used with fullmatch: no trailing newline
 MESHERS = ("tet", "hex")
+MAX_WALL_RATIO = 3.0
+"""Largest ``wall_ratio`` (common practice, no source: stronger stretching spoils the accuracy
+of most finite-volume schemes)."""
 
 
 def _fmt(design: Design, metres: float) -> str:
@@ -41,7 +45,7 @@ def _positive(design: Design, key: str, metres: float) -> None:
 
 def check_design(design: Design) -> None:
     """Raise ``DesignError`` for the first rule the design breaks."""
-    if not NAME_PATTERN.match(design.name) or ".." in design.name:
+    if not NAME_PATTERN.fullmatch(design.name) or ".." in design.name:
         raise DesignError(
             "name",
             design.name,
@@ -195,16 +199,20 @@ def _bend_radius(design: Design, key: str, radius: float) -> None:
 
 
 def _check_outlets(design: Design) -> None:
-    split = design.outlets.split
+    for key, split in (("inlets.split", design.inlets.split), ("outlets.split", design.outlets.split)):
+        _check_split(key, split)
+
+
+def _check_split(key: str, split: tuple[float, ...]) -> None:
     if not split:
         return
     if len(split) > 20:
-        raise DesignError("outlets.split", list(split), "may have at most 20 fractions")
+        raise DesignError(key, list(split), "may have at most 20 fractions")
     for i, f in enumerate(split):
         if not f > 0:
-            raise DesignError(f"outlets.split[{i}]", f, "must be greater than 0")
+            raise DesignError(f"{key}[{i}]", f, "must be greater than 0")
     if abs(sum(split) - 1.0) > 1e-9:
-        raise DesignError("outlets.split", list(split), f"fractions must sum to 1 (they sum to {sum(split):.6g})")
+        raise DesignError(key, list(split), f"fractions must sum to 1 (they sum to {sum(split):.6g})")
 
 
 def _check_mesh(design: Design) -> None:
@@ -213,7 +221,7 @@ def _check_mesh(design: Design) -> None:
         raise DesignError("mesh.cells", m.cells, f"must be one of {', '.join(repr(c) for c in MESHERS)}")
     if not 2 <= m.cells_across <= 2000:
         raise DesignError("mesh.cells_across", m.cells_across, "must be a whole number from 2 to 2000")
-    if not 1.0 <= m.wall_ratio <= 3.0:
+    if not 1.0 <= m.wall_ratio <= MAX_WALL_RATIO:
         raise DesignError("mesh.wall_ratio", m.wall_ratio, "must lie in [1, 3] (1 = uniform cells)")
     if m.first_cell is not None:
         _positive(design, "mesh.first_cell", m.first_cell)
@@ -222,6 +230,14 @@ def _check_mesh(design: Design) -> None:
                 "mesh.first_cell",
                 _fmt(design, m.first_cell),
                 f"must be at most section.width / cells_across = {_fmt(design, design.section.width / m.cells_across)}",
+            )
+        smallest = first_cell(design.section.width, m.cells_across, MAX_WALL_RATIO)
+        if m.first_cell < smallest * (1 - 1e-9):
+            raise DesignError(
+                "mesh.first_cell",
+                _fmt(design, m.first_cell),
+                f"must be at least {_fmt(design, smallest)} for cells_across = {m.cells_across}: a smaller wall cell "
+                f"needs a growth ratio above wall_ratio's limit of {MAX_WALL_RATIO:g}; raise first_cell or cells_across",
             )
     if m.cells_high is not None and not 1 <= m.cells_high <= 2000:
         raise DesignError("mesh.cells_high", m.cells_high, "must be a whole number from 1 to 2000")

@@ -24,12 +24,13 @@ from chanmesh.design.model import (
     Design,
     Fabrication,
     FlowSpec,
+    Inlets,
     MeshSpec,
     Outlets,
     Section,
 )
 from chanmesh.errors import MISSING, DesignError
-from chanmesh.units import length_unit, parse_flow_rate, parse_length, parse_temperature, parse_velocity
+from chanmesh.units import finite_length, length_unit, parse_flow_rate, parse_length, parse_temperature, parse_velocity
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -44,6 +45,11 @@ class Key:
     read: Callable[[str, Any, float], Any]
     required: bool = False
     default: Any = None
+
+
+MAX_LIST = 1000
+"""Longest list a design key takes (sections, split fractions, particle sizes): each section is
+a surface in the mesh, so thousands would be a slip, and a bound keeps refusals fast."""
 
 
 # --- readers: (full key, raw value, metres per design unit) -> value ---------------------------
@@ -61,7 +67,7 @@ def read_length(key: str, raw: Any, scale: float) -> float:
     """A length in design units (a plain number) or with its own unit (``'1.5mm'``)."""
     if isinstance(raw, str):
         return parse_length(key, raw)
-    return _number(key, raw) / round(1.0 / scale)
+    return finite_length(key, raw, _number(key, raw) / round(1.0 / scale))
 
 
 def read_float(key: str, raw: Any, scale: float) -> float:
@@ -91,12 +97,16 @@ def read_str(key: str, raw: Any, scale: float) -> str:
 def read_float_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of numbers, e.g. [0.3, 0.7]")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} values)", f"may list at most {MAX_LIST} values")
     return tuple(_number(f"{key}[{i}]", v) for i, v in enumerate(raw))
 
 
 def read_length_list(key: str, raw: Any, scale: float) -> tuple[float, ...]:
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of lengths, e.g. [7, 15] or ['7um', '15um']")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} values)", f"may list at most {MAX_LIST} values")
     return tuple(read_length(f"{key}[{i}]", v, scale) for i, v in enumerate(raw))
 
 
@@ -104,6 +114,8 @@ def read_station_list(key: str, raw: Any, scale: float) -> tuple[Any, ...]:
     """Stations stay as written (fraction, ``'12.5mm'``, ``'90deg'``, ``'turn=2.25'``)."""
     if not isinstance(raw, list):
         raise DesignError(key, raw, "must be a list of stations, e.g. [0.25, 0.5, '90deg']")
+    if len(raw) > MAX_LIST:
+        raise DesignError(key, f"({len(raw):,} stations)", f"may list at most {MAX_LIST} stations")
     for i, v in enumerate(raw):
         if isinstance(v, bool) or not isinstance(v, (int, float, str)):
             raise DesignError(f"{key}[{i}]", v, "must be a fraction, a length with unit, or an angle")
@@ -239,7 +251,7 @@ FABRICATION_KEYS: dict[str, Key] = {
     "port_diameter": Key(read_length, default=Fabrication.port_diameter),
 }
 
-TOP_KEYS = ("name", "unit", "section", "path", "outlets", "mesh", "flow", "fabrication")
+TOP_KEYS = ("name", "unit", "section", "path", "inlets", "outlets", "mesh", "flow", "fabrication")
 
 
 def _unknown(key: str, known: list[str]) -> DesignError:
@@ -296,11 +308,12 @@ def design_from_dict(data: dict[str, Any]) -> Design:
     fields = read_table({k: v for k, v in path_raw.items() if k != "kind"}, "path", {**PATH_KEYS[kind], **LEAD_KEYS}, scale)
     path = PATH_KINDS[kind](**fields)
 
+    inlets = Inlets(**read_table(_table(data.get("inlets"), "inlets"), "inlets", OUTLET_KEYS, scale))
     outlets = Outlets(**read_table(_table(data.get("outlets"), "outlets"), "outlets", OUTLET_KEYS, scale))
     mesh = MeshSpec(**read_table(_table(data.get("mesh"), "mesh"), "mesh", MESH_KEYS, scale))
     flow = FlowSpec(**read_table(_table(data.get("flow"), "flow"), "flow", FLOW_KEYS, scale))
     fab = Fabrication(**read_table(_table(data.get("fabrication"), "fabrication"), "fabrication", FABRICATION_KEYS, scale))
-    design = Design(name=name, section=section, path=path, outlets=outlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
+    design = Design(name=name, section=section, path=path, outlets=outlets, inlets=inlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
     check_design(design)
     return design
 
@@ -331,23 +344,37 @@ def _section(sec: dict[str, Any]) -> Section:
     raise DesignError("section.shape", shape, "must be 'rectangle' or 'trapezoid'")
 
 
+MAX_DESIGN_BYTES = 1_000_000
+"""Largest design file read (a design is a few hundred bytes; a megabyte holds thousands of
+stations). Checked before parsing, so a huge file is refused at once."""
+
+
 def parse_design_text(text: str, source: str = "<design>") -> dict[str, Any]:
     """Parse design text (TOML) into plain data, unchecked (a sweep varies this dict)."""
+    if len(text) > MAX_DESIGN_BYTES:
+        raise DesignError(source, f"({len(text):,} characters)", f"is too large for a design file (at most {MAX_DESIGN_BYTES:,})")
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise DesignError(source, "(not TOML)", f"is not a valid TOML design file: {exc}") from None
+    except RecursionError:  # tomllib parses nested arrays recursively
+        raise DesignError(source, "(nested too deeply)", "is not a usable design file: arrays or tables nested too deeply") from None
 
 
 def read_design_data(path: str | FsPath) -> dict[str, Any]:
     """Read a design file from disk into plain data, unchecked."""
     p = FsPath(path)
+    if p.is_dir():
+        raise DesignError("design file", str(p), "is a folder, not a design file")
     try:
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:
+            raw = fh.read(MAX_DESIGN_BYTES + 1)  # bounded: a device or a huge file cannot stall us
     except FileNotFoundError:
         raise DesignError("design file", str(p), "does not exist") from None
     except OSError as exc:
         raise DesignError("design file", str(p), f"cannot be read ({exc.strerror})") from None
+    if len(raw) > MAX_DESIGN_BYTES:
+        raise DesignError("design file", str(p), f"is larger than {MAX_DESIGN_BYTES:,} bytes; a design file is a short TOML text")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:

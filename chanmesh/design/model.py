@@ -165,17 +165,32 @@ PATH_KINDS: dict[str, type] = {
 
 
 @dataclass(frozen=True)
-class Outlets:
-    """Split of the outlet face across the width, from the u = -w/2 wall (the inner wall of arcs
-    and spirals; the left-hand wall looking downstream) to the u = +w/2 wall."""
+class PortSplit:
+    """Split of an end face across the width, from the u = -w/2 wall (the inner wall of
+    left-turning bends; the left-hand wall looking downstream) to the u = +w/2 wall."""
 
+    prefix: ClassVar[str] = "port"
     split: tuple[float, ...] = ()
 
     @property
     def names(self) -> tuple[str, ...]:
         if len(self.split) <= 1:
-            return ("outlet",)
-        return tuple(f"outlet_{i + 1}" for i in range(len(self.split)))
+            return (self.prefix,)
+        return tuple(f"{self.prefix}_{i + 1}" for i in range(len(self.split)))
+
+
+@dataclass(frozen=True)
+class Inlets(PortSplit):
+    """The inlet face, whole (``inlet``) or split into ``inlet_1 .. inlet_n``."""
+
+    prefix: ClassVar[str] = "inlet"
+
+
+@dataclass(frozen=True)
+class Outlets(PortSplit):
+    """The outlet face, whole (``outlet``) or split into ``outlet_1 .. outlet_n``."""
+
+    prefix: ClassVar[str] = "outlet"
 
 
 @dataclass(frozen=True)
@@ -230,6 +245,7 @@ class Design:
     section: Section
     path: Path
     outlets: Outlets = field(default_factory=Outlets)
+    inlets: Inlets = field(default_factory=Inlets)
     mesh: MeshSpec = field(default_factory=MeshSpec)
     flow: FlowSpec = field(default_factory=FlowSpec)
     fabrication: Fabrication = field(default_factory=Fabrication)
@@ -249,6 +265,7 @@ class Design:
             "unit": self.unit,
             "section": dataclasses.asdict(self.section),
             "path": _path_dict(self.path),
+            "inlets": {"split": list(self.inlets.split)},
             "outlets": {"split": list(self.outlets.split)},
             "mesh": {**dataclasses.asdict(self.mesh), "sections": list(self.mesh.sections)},
             "flow": {**dataclasses.asdict(self.flow), "particles": list(self.flow.particles)},

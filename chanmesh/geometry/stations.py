@@ -29,9 +29,10 @@ from chanmesh.geometry.centerline import Arc, Centerline, Spiral, centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.units import parse_length
 
-_ANGLE = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*$", re.IGNORECASE)
-_BEND = re.compile(r"^\s*bend\s*=\s*(\d+)\s*:\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*$", re.IGNORECASE)
-_TURN = re.compile(r"^\s*turns?\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*$", re.IGNORECASE)
+# used with fullmatch (no "$", which would also match before a final newline)
+_ANGLE = re.compile(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*", re.IGNORECASE)
+_BEND = re.compile(r"\s*bend\s*=\s*(\d+)\s*:\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*deg\s*", re.IGNORECASE)
+_TURN = re.compile(r"\s*turns?\s*=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*", re.IGNORECASE)
 ENDS_TOL = 1e-12  # relative slack at the two ends of the centreline
 END_CLEARANCE = 1e-9  # m: a mesh section this close to the inlet or outlet would be that face
 STRAIGHT_CURVATURE = 1e-9  # 1/m: below this the path counts as straight
@@ -115,8 +116,8 @@ def station_arc_length(design: Design, raw: Any, key: str = "--at", line: Center
         as_number = None
     if as_number is not None:
         return station_arc_length(design, as_number, key, line)
-    bend = _BEND.match(text)
-    angle, turn = _ANGLE.match(text), _TURN.match(text)
+    bend = _BEND.fullmatch(text)
+    angle, turn = _ANGLE.fullmatch(text), _TURN.fullmatch(text)
     if angle or turn or bend:
         return _angle_station(design, raw, key, line, angle, turn, bend)
     try:

@@ -1,4 +1,4 @@
-"""Name the boundary of the channel solid: inlet, outlet (or outlet_1..n), wall, and fluid.
+"""Name the boundary of the channel solid: inlet (or inlet_1..n), outlet (or outlet_1..n), wall, fluid.
 
 Faces are picked by geometric query after synchronize (centre of mass and normal against the
 centreline's end frames), never by tag number: tags change after every boolean operation.
@@ -34,39 +34,44 @@ def end_frames(line: Centerline) -> tuple[EndFrame, EndFrame]:
     return EndFrame(p[0], t[0], n[0]), EndFrame(p[1], t[1], n[1])
 
 
-def split_outlet(design: Design, volume: int) -> int:
-    """Imprint vertical lines on the outlet face at the split fractions; returns the volume tag.
+def split_ends(design: Design, volume: int) -> int:
+    """Imprint vertical lines on the inlet and outlet faces at their split fractions; returns
+    the volume tag.
 
-    The lines are placed between the face's own corners (not the ideal section), so they lie
+    The lines are placed between each face's own corners (not the ideal section), so they lie
     on the face to round-off even where a pipe's end face is tilted by a few nanometres.
     """
-    split = design.outlets.split
-    if len(split) <= 1:
+    ends = [(design.inlets.split, 0), (design.outlets.split, 1)]
+    if all(len(split) <= 1 for split, _ in ends):
         return volume
     line = centerline_of(design)
     shape = section_shape_of(design)
-    start, end = end_frames(line)
+    frames = end_frames(line)
     half_extent = _half_extent(shape)
     faces = [int(s) for s in gmsh.model.getAdjacencies(3, volume)[1]]
-    outlet = [s for s in faces if _on_end(_com(s), _normal(s), end, half_extent)]
-    if len(outlet) != 1:
-        raise RuntimeError(f"the outlet matched {len(outlet)} faces, expected exactly 1")
-    corners = np.array([gmsh.model.getValue(0, c[1], []) for c in gmsh.model.getBoundary([(2, outlet[0])], recursive=True)])
-    u = (corners - end.point) @ end.normal
-    z = corners[:, 2]
-    inner = corners[u < 0][np.argsort(z[u < 0])]  # bottom, top
-    outer = corners[u > 0][np.argsort(z[u > 0])]
     occ = gmsh.model.occ
     cuts = []
-    for frac in np.cumsum(split)[:-1]:
-        a = inner[0] + frac * (outer[0] - inner[0])
-        b = inner[1] + frac * (outer[1] - inner[1])
-        cuts.append((1, occ.addLine(occ.addPoint(*a), occ.addPoint(*b))))
+    for split, which in ends:
+        if len(split) <= 1:
+            continue
+        frame = frames[which]
+        face = [s for s in faces if _on_end(_com(s), _normal(s), frame, half_extent)]
+        if len(face) != 1:
+            raise RuntimeError(f"the {('inlet', 'outlet')[which]} matched {len(face)} faces, expected exactly 1")
+        corners = np.array([gmsh.model.getValue(0, c[1], []) for c in gmsh.model.getBoundary([(2, face[0])], recursive=True)])
+        u = (corners - frame.point) @ frame.normal
+        z = corners[:, 2]
+        inner = corners[u < 0][np.argsort(z[u < 0])]  # bottom, top
+        outer = corners[u > 0][np.argsort(z[u > 0])]
+        for frac in np.cumsum(split)[:-1]:
+            a = inner[0] + frac * (outer[0] - inner[0])
+            b = inner[1] + frac * (outer[1] - inner[1])
+            cuts.append((1, occ.addLine(occ.addPoint(*a), occ.addPoint(*b))))
     out, _ = occ.fragment([(3, volume)], cuts)
     occ.synchronize()
     vols = [dt[1] for dt in out if dt[0] == 3]
     if len(vols) != 1:
-        raise RuntimeError(f"splitting the outlet gave {len(vols)} volumes, expected 1")
+        raise RuntimeError(f"splitting the inlet or outlet gave {len(vols)} volumes, expected 1")
     return vols[0]
 
 
@@ -99,7 +104,7 @@ def label_boundary(design: Design, volume: int | list[int], sections: list[list[
 
     ``volume`` is the fluid volume, or its pieces when internal ``sections`` (surface tags of
     section_1, section_2, ...) split it; those faces are internal and skip classification.
-    Group tags: inlet, outlet(s), wall, section_1..k, fluid. Returns name -> tags (and
+    Group tags: inlet(s), outlet(s), wall, section_1..k, fluid. Returns name -> tags (and
     ``fluid`` -> the volumes). Raises if a named end is missing.
     """
     volumes = [volume] if isinstance(volume, int) else list(volume)
@@ -109,19 +114,21 @@ def label_boundary(design: Design, volume: int | list[int], sections: list[list[
     shape = section_shape_of(design)
     start, end = end_frames(line)
     half_extent = _half_extent(shape)
-    names = design.outlets.names
-    edges = np.cumsum((0.0,) + tuple(design.outlets.split or (1.0,)))
-    groups: dict[str, list[int]] = {"inlet": [], **{n: [] for n in names}, "wall": []}
+    ports = [(design.inlets, start), (design.outlets, end)]
+    groups: dict[str, list[int]] = {n: [] for p, _ in ports for n in p.names}
+    groups["wall"] = []
     surfaces = sorted({int(s) for v in volumes for s in gmsh.model.getAdjacencies(3, v)[1]} - internal)
     for s in surfaces:
         com, normal = _com(s), _normal(s)
-        if _on_end(com, normal, start, half_extent):
-            groups["inlet"].append(s)
-        elif _on_end(com, normal, end, half_extent):
-            u = float((com - end.point) @ end.normal) * MODEL_UNIT
-            frac = (u + 0.5 * shape.width) / shape.width
-            k = int(np.clip(np.searchsorted(edges, frac) - 1, 0, len(names) - 1))
-            groups[names[k]].append(s)
+        for port, frame in ports:
+            if _on_end(com, normal, frame, half_extent):
+                # the piece by its fraction across the width from u = -w/2, as the hex mesher does
+                u = float((com - frame.point) @ frame.normal) * MODEL_UNIT
+                frac = (u + 0.5 * shape.width) / shape.width
+                edges = np.cumsum((0.0,) + tuple(port.split or (1.0,)))
+                k = int(np.clip(np.searchsorted(edges, frac) - 1, 0, len(port.names) - 1))
+                groups[port.names[k]].append(s)
+                break
         else:
             groups["wall"].append(s)
     for name, tags in groups.items():

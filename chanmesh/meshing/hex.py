@@ -97,15 +97,15 @@ def _boundary_faces(plan: HexPlan, corner0: np.ndarray, offsets: np.ndarray) -> 
     return out
 
 
-def _split_outlet(plan: HexPlan, outlet: np.ndarray, names: tuple[str, ...]) -> list[tuple[str, np.ndarray]]:
-    """Outlet quads by piece: fraction measured from u = -w/2, as the tetrahedral labels do."""
+def _split_end(plan: HexPlan, outlet: np.ndarray, names: tuple[str, ...], edges_at: tuple[int, ...]) -> list[tuple[str, np.ndarray]]:
+    """End-face quads by piece (``edges_at``: bounding node columns): fraction measured from
+    u = -w/2, as the tetrahedral labels do."""
     if len(names) == 1:
         return [(names[0], outlet)]
     nj = len(plan.eta) - 1
     ni = len(plan.u) - 1
-    i_cell = (outlet[:, 0] // (nj + 1)) % (ni + 1)  # column of the quad's first node
-    i_cell = np.minimum(i_cell, outlet[:, 1] // (nj + 1) % (ni + 1))
-    edges = np.asarray(plan.outlet_nodes)
+    i_cell = ((outlet // (nj + 1)) % (ni + 1)).min(axis=1)  # the lower node column of each quad
+    edges = np.asarray(edges_at)
     piece = np.searchsorted(edges, i_cell, side="right") - 1
     return [(name, outlet[piece == q]) for q, name in enumerate(names)]
 
@@ -131,8 +131,8 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     base = corner0.reshape(-1) if col is None else corner0[col].reshape(-1)
     cells = base[:, None] + offsets[None, :]
     faces = _boundary_faces(plan, corner0, offsets)
-    pieces = [("inlet", np.concatenate(faces["inlet"]))]
-    pieces += _split_outlet(plan, np.concatenate(faces["outlet"]), design.outlets.names)
+    pieces = _split_end(plan, np.concatenate(faces["inlet"]), design.inlets.names, plan.inlet_nodes)
+    pieces += _split_end(plan, np.concatenate(faces["outlet"]), design.outlets.names, plan.outlet_nodes)
     pieces.append(("wall", np.concatenate(faces["wall"])))
     groups = [Group(name, 2, tag) for tag, (name, _) in enumerate(pieces, start=1)]
     fluid = Group("fluid", 3, len(pieces) + 1)

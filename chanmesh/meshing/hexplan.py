@@ -39,6 +39,7 @@ class HexPlan:
     grading: Grading
     ratio_high: float  # growth ratio over the height
     first_high: float  # wall cell over the (mean) height, m
+    inlet_nodes: tuple[int, ...] = ()  # as outlet_nodes, for the inlet (empty: the whole band)
 
     @property
     def shape(self) -> tuple[int, int, int]:
@@ -97,6 +98,32 @@ def _honour_split(nodes: np.ndarray, targets: np.ndarray) -> tuple[np.ndarray, t
     return moved, tuple(picks)
 
 
+def _honour_splits(design: Design, u_band: np.ndarray, n_across: int) -> tuple[np.ndarray, tuple[int, ...], tuple[int, ...]]:
+    """Put every inlet and outlet split line on a grid line (one shared set of lines where the
+    two splits agree). Returns the moved nodes and the node indices bounding each inlet and
+    each outlet piece, from u = -w/2."""
+    w = design.section.width
+    lines: list[np.ndarray] = []
+    for port in (design.inlets, design.outlets):
+        lines.append(-0.5 * w + w * np.cumsum(port.split)[:-1] if len(port.split) > 1 else np.zeros(0))
+    targets = np.unique(np.round(np.concatenate(lines) / (1e-12 * w)) * (1e-12 * w))
+    if len(targets) == 0:
+        return u_band, (0, n_across), (0, n_across)
+    if n_across < len(targets) + 1:
+        raise DesignError(
+            "mesh.cells_across", design.mesh.cells_across,
+            f"the hexahedral mesher needs at least one cell between split lines ({len(targets)} distinct "
+            f"lines from inlets.split and outlets.split need {len(targets) + 1} cells across)",
+        )
+    moved, picks = _honour_split(u_band, targets)
+
+    def nodes(port_lines: np.ndarray) -> tuple[int, ...]:
+        inner = [picks[1 + int(np.argmin(np.abs(targets - t)))] for t in port_lines]
+        return (0, *inner, n_across)
+
+    return moved, nodes(lines[0]), nodes(lines[1])
+
+
 def _along_counts(lengths: np.ndarray, total: int) -> np.ndarray:
     """Split ``total`` cells over segments in proportion to length, at least one each
     (largest remainder, so the sum is exact whenever total >= number of segments)."""
@@ -124,23 +151,14 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
     first_high = float(eta[1] - eta[0])
     eta = eta / H
 
-    split = design.outlets.split
-    outlet_nodes: tuple[int, ...] = (0, n_across)
-    if len(split) > 1:
-        if n_across < len(split):
-            raise DesignError(
-                "mesh.cells_across", m.cells_across,
-                f"the hexahedral mesher needs at least one cell per outlet ({len(split)} outlets)",
-            )
-        targets = -0.5 * w + w * np.cumsum(split)[:-1]
-        u_band, outlet_nodes = _honour_split(u_band, targets)
+    u_band, inlet_nodes, outlet_nodes = _honour_splits(design, u_band, n_across)
 
     line = centerline_of(design)
     h_along = (
         line.length / _scaled(m.cells_along, scale, 1) if m.cells_along is not None else m.along_aspect * grading.h_core
     )
     if isinstance(design.path, ChambersPath):
-        return _chambers_plan(design, grading, by_first, u_band, outlet_nodes, eta, ratio_high, first_high, h_along)
+        return _chambers_plan(design, grading, by_first, u_band, inlet_nodes, outlet_nodes, eta, ratio_high, first_high, h_along)
     lengths = np.diff(line.breaks)
     total = _scaled(m.cells_along, scale, 1) if m.cells_along is not None else int(math.ceil(line.length / h_along - 1e-9))
     counts = _along_counts(lengths, max(total, len(lengths)))
@@ -152,7 +170,7 @@ def plan_hex(design: Design, scale: float = 1.0) -> HexPlan:
     )
     s[-1] = line.length
     s = _through_stations(design, s, line.breaks)
-    return HexPlan(s, u_band, eta, (0, n_across), outlet_nodes, None, grading, ratio_high, first_high)
+    return HexPlan(s, u_band, eta, (0, n_across), outlet_nodes, None, grading, ratio_high, first_high, inlet_nodes)
 
 
 def _through_stations(design: Design, s: np.ndarray, keep: np.ndarray) -> np.ndarray:
@@ -168,7 +186,8 @@ def _through_stations(design: Design, s: np.ndarray, keep: np.ndarray) -> np.nda
 
 
 def _chambers_plan(
-    design: Design, grading: Grading, by_first: bool, u_band: np.ndarray, outlet_nodes: tuple[int, ...],
+    design: Design, grading: Grading, by_first: bool, u_band: np.ndarray, inlet_nodes: tuple[int, ...],
+    outlet_nodes: tuple[int, ...],
     eta: np.ndarray, ratio_high: float, first_high: float, h_along: float,
 ) -> HexPlan:
     """Throats and chambers on one tensor grid: the throat walls' grid lines run on through
@@ -193,6 +212,7 @@ def _chambers_plan(
     i0 = max(len(left) - 1, 0)
     band = (i0, i0 + n_across)
     outlet_nodes = tuple(i0 + k for k in outlet_nodes)
+    inlet_nodes = tuple(i0 + k for k in inlet_nodes)
 
     # along x: leads uniform; throats and chambers graded toward both ends (end walls)
     starts = [path.throat_length + k * (path.chamber_length + path.throat_length) for k in range(path.count)]
@@ -215,4 +235,4 @@ def _chambers_plan(
     in_chamber = np.zeros(len(mid), bool)
     for x0 in starts:
         in_chamber |= (mid > x0) & (mid < x0 + path.chamber_length)
-    return HexPlan(s, u, eta, band, outlet_nodes, in_chamber, grading, ratio_high, first_high)
+    return HexPlan(s, u, eta, band, outlet_nodes, in_chamber, grading, ratio_high, first_high, inlet_nodes)

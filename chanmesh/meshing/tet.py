@@ -14,7 +14,7 @@ import numpy as np
 from chanmesh.design.model import Design
 from chanmesh.gmshlayer.background import install_size_field, size_grid
 from chanmesh.sizing import tet_grading
-from chanmesh.gmshlayer.labels import label_boundary, split_outlet
+from chanmesh.gmshlayer.labels import label_boundary, split_ends
 from chanmesh.gmshlayer.sections import embed_sections
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
@@ -71,7 +71,7 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
     with gmsh_session(threads=design.mesh.threads):
         say("geometry")
         volume = build_solid(design)
-        volume = split_outlet(design, volume)
+        volume = split_ends(design, volume)
         pieces, sections = embed_sections(design, volume)
         label_boundary(design, pieces, sections)
         say("meshing")

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import dataclasses
 import math
+
+import numpy as np
 from typing import Any
 
 from chanmesh.design.model import ChambersPath, Design, FlowSpec, SpiralPiece
@@ -84,6 +86,22 @@ def _duct(width: float, height: float, fluid: Fluid, rate: float) -> dict[str, f
     }
 
 
+def inlet_shares(design: Design, rate: float) -> list[dict[str, Any]]:
+    """Each inlet piece's area and share of the flow ``rate`` (m^3/s) when every piece carries
+    the same mean velocity (as the OpenFOAM case prescribes): share = piece area / section
+    area, the piece spanning its fractions of the width from u = -w/2 under the section's top."""
+    shape = SectionShape.of(design.section)
+    edges = -0.5 * shape.width + shape.width * np.cumsum((0.0,) + tuple(design.inlets.split))
+    rows = []
+    for name, a, b in zip(design.inlets.names, edges[:-1], edges[1:]):
+        mean_height = 0.5 * (float(shape.top(a)) + float(shape.top(b))) - shape.bottom  # straight top: trapezoid rule exact
+        area = (b - a) * mean_height
+        rows.append({"name": name, "width_fraction": (b - a) / shape.width, "area_m2": area,
+                     "share": area / shape.area, "rate_m3_s": rate * area / shape.area,
+                     "mean_velocity_m_s": rate / shape.area})
+    return rows
+
+
 def design_numbers(design: Design, flow: FlowSpec | None = None) -> dict[str, Any]:
     """The design numbers of ``design`` at ``flow`` (default: the design's own [flow] table)."""
     flow = design.flow if flow is None else flow
@@ -124,6 +142,7 @@ def design_numbers(design: Design, flow: FlowSpec | None = None) -> dict[str, An
             "reynolds": re,
         },
     }
+    out["inlets"] = inlet_shares(design, rate) if len(design.inlets.split) > 1 else None
 
     stations = regime.stations_of(design)
     out["dean"] = None

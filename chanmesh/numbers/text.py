@@ -39,15 +39,20 @@ def render(numbers: dict[str, Any]) -> str:
         f"{fl['mean_velocity_m_s']:.4g} m/s, max {fl['max_velocity_m_s']:.4g} m/s (x{fl['max_over_mean']:.3f})"
     )
     lines.append(f"Reynolds    Re = rho U D_h / mu = {fl['reynolds']:.4g}")
+    for row in n.get("inlets") or []:
+        lines.append(
+            f"  {row['name']:<10} {row['width_fraction']:.3g} of the width, {row['share']:.4g} of the flow = "
+            f"{row['rate_m3_s'] * 6e7:.5g} mL/min (same mean velocity at every inlet piece)"
+        )
     if n["dean"]:
         d = n["dean"]
         lines += ["", f"Dean number {d['definition']}", f"            ({n['definitions']['dean'].split('; ', 1)[1]})"]
-        lines.append(f"  {'station':<14} {'s':>10} {'r':>10} {'R=1/k':>10} {'De':>8} {'U_Dean':>10}  {'inner wall':<14}regime")
+        lines.append(f"  {'station':<16} {'s':>10} {'r':>10} {'R=1/k':>10} {'De':>8} {'U_Dean':>10}  {'inner wall':<18}regime")
         for st in d["stations"]:
             inner = f"{st['inner_wall']} ({st['side']})" if st.get("inner_wall") else ""
             lines.append(
-                f"  {st['label']:<14} {_mm(st['s_m']):>10} {_mm(st['radius_m']):>10} {_mm(st['curvature_radius_m']):>10} "
-                f"{st['dean']:>8.3g} {st['dean_velocity_m_s'] * 1e3:>7.3g} mm/s  {inner:<14}{st['regime']}"
+                f"  {st['label']:<16} {_mm(st['s_m']):>10} {_mm(st['radius_m']):>10} {_mm(st['curvature_radius_m']):>10} "
+                f"{st['dean']:>8.3g} {st['dean_velocity_m_s'] * 1e3:>7.3g} mm/s  {inner:<18}{st['regime']}"
             )
         lines.append(f"  bands: below {d['band_low']:g}, inside up to {d['band_high']:g}, above (common practice, no source)")
         lines.append("  U_Dean = 1.8e-4 De^1.63 m/s: empirical correlation (Ookawara et al. 2004)")
@@ -71,7 +76,7 @@ def render(numbers: dict[str, Any]) -> str:
             for st in p["stations"]:
                 ratio = st["lift_over_drag"]
                 shown = "inf" if ratio is None else f"{ratio:.3g}"
-                lines.append(f"      {st['label']:<14} F_D = {st['dean_drag_N']:.3g} N, F_L/F_D = {shown}")
+                lines.append(f"      {st['label']:<16} F_D = {st['dean_drag_N']:.3g} N, F_L/F_D = {shown}")
         if n["dean"] and n["inputs"]["focus_ratio"] is not None:
             lines.append(f"  verdict also needs F_L/F_D >= {n['inputs']['focus_ratio']:g} (focus ratio as given)")
         elif n["dean"]:

@@ -35,7 +35,7 @@ def group_colours(names: list[str]) -> dict[str, str]:
     for name in names:
         if name == "wall":
             out[name] = WALL
-        elif name == "inlet":
+        elif name in ("inlet", "inlet_1"):
             out[name] = INLET
         elif name in ("outlet", "outlet_1"):
             out[name] = OUTLET

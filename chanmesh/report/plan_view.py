@@ -83,15 +83,15 @@ def plan_picture(design: Design, width: int = 1200, height: int = 800) -> PlanPi
     ax.set_axis_off()
     ax.add_patch(Polygon(pts_mm, closed=True, facecolor=WALL, edgecolor=INK, linewidth=0.8))
 
-    colours = group_colours(["inlet", *design.outlets.names])
-    _port_arrow(ax, line, 0.0, 0.0, arrow, colours["inlet"], "inlet", into=True)
-    cum = np.cumsum((0.0,) + design.outlets.split) if design.outlets.split else np.array([0.0, 1.0])
-    names = design.outlets.names
-    fan = math.radians(min(60.0, 30.0 * (len(names) - 1)))  # split outlets fan out so labels stay apart
-    for k, name in enumerate(names):
-        u = (-0.5 + 0.5 * (cum[k] + cum[k + 1])) * w
-        turn = fan * (k / (len(names) - 1) - 0.5) if len(names) > 1 else 0.0
-        _port_arrow(ax, line, line.length, u, arrow, colours[name], name, into=False, turn=turn)
+    colours = group_colours([*design.inlets.names, *design.outlets.names])
+    for port, s_end, into in ((design.inlets, 0.0, True), (design.outlets, line.length, False)):
+        cum = np.cumsum((0.0,) + port.split) if port.split else np.array([0.0, 1.0])
+        names = port.names
+        fan = math.radians(min(60.0, 30.0 * (len(names) - 1)))  # split ports fan out so labels stay apart
+        for k, name in enumerate(names):
+            u = (-0.5 + 0.5 * (cum[k] + cum[k + 1])) * w
+            turn = fan * (k / (len(names) - 1) - 0.5) if len(names) > 1 else 0.0
+            _port_arrow(ax, line, s_end, u, arrow, colours[name], name, into=into, turn=-turn if into else turn)
     for i, s in enumerate(station_arc_lengths(design)):
         _tick(ax, line, s, w, f"section_{i + 1}")
 

@@ -3,6 +3,9 @@ with ``--zip``, pairwise. Values are put into the raw design data (in the design
 unit, e.g. ``path.radius=3000:8000:6`` in um), and every variant is re-read through
 ``design_from_dict`` so it passes exactly the checks a design file does.
 
+KEY is dotted, and a list item is picked by its index from 0: ``path.segments[1].arc`` is the
+radius of the second piece of a ``segments`` path.
+
 SPEC is ``a:b:n`` (n evenly spaced values from a to b inclusive), a comma list ``300,400,500``
 (numbers, or text such as ``1.5mm`` or ``hex``), or a single value.
 """
@@ -12,12 +15,26 @@ from __future__ import annotations
 import copy
 import itertools
 import math
+import re
 from dataclasses import dataclass
 from typing import Any
 
 from chanmesh.errors import DesignError
 
 MAX_VARIANTS = 10_000
+_PART = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)((?:\[\d+\])*)$")
+
+
+def _steps(key: str) -> list[str | int]:
+    """``path.segments[1].arc`` -> ['path', 'segments', 1, 'arc']; [] if malformed."""
+    out: list[str | int] = []
+    for part in key.split("."):
+        m = _PART.match(part)
+        if not m:
+            return []
+        out.append(m.group(1))
+        out += [int(i) for i in re.findall(r"\[(\d+)\]", m.group(2))]
+    return out
 
 
 @dataclass(frozen=True)
@@ -52,8 +69,9 @@ def parse_vary(option: str) -> Variation:
     """``KEY=a:b:n`` or ``KEY=v1,v2,...`` -> Variation; errors name the option as written."""
     key, sep, spec = option.partition("=")
     key = key.strip()
-    if not sep or not key or not all(part.isidentifier() for part in key.split(".")):
-        raise DesignError("--vary", option, "must be KEY=VALUES with a dotted design key, e.g. path.radius=3000:8000:6")
+    if not sep or not key or not _steps(key):
+        raise DesignError("--vary", option, "must be KEY=VALUES with a dotted design key, e.g. path.radius=3000:8000:6 "
+                          "or path.segments[1].arc=300,400")
     if ":" in spec:
         parts = spec.split(":")
         if len(parts) != 3:
@@ -96,15 +114,36 @@ def combine(variations: list[Variation], paired: bool = False) -> list[dict[str,
 
 
 def apply(data: dict[str, Any], assignment: dict[str, Any]) -> dict[str, Any]:
-    """A deep copy of the raw design data with each dotted key set (tables created as needed)."""
+    """A deep copy of the raw design data with each dotted key set (tables created as needed;
+    a list item ``name[i]`` must already exist)."""
     out = copy.deepcopy(data)
     for key, value in assignment.items():
-        *tables, last = key.split(".")
-        node = out
-        for i, t in enumerate(tables):
-            nxt = node.setdefault(t, {})
-            if not isinstance(nxt, dict):
-                raise DesignError(".".join(tables[: i + 1]), nxt, f"is a value, not a table, so --vary {key} cannot set it")
-            node = nxt
+        *path, last = _steps(key)
+        node: Any = out
+        for depth, step in enumerate(path):
+            where = key if depth + 1 == len(path) else _shown(path[: depth + 1])
+            if isinstance(step, int):
+                if not isinstance(node, list) or not 0 <= step < len(node):
+                    size = len(node) if isinstance(node, list) else 0
+                    raise DesignError(where, step, f"has no item {step}: the list has {size} items (counted from 0), "
+                                      f"so --vary {key} cannot set it")
+                node = node[step]
+            else:
+                nxt = node.setdefault(step, {}) if isinstance(node, dict) else None
+                if not isinstance(nxt, (dict, list)):
+                    raise DesignError(_shown(path[: depth + 1]), nxt, f"is a value, not a table, so --vary {key} cannot set it")
+                node = nxt
+        if isinstance(last, int):
+            if not isinstance(node, list) or not 0 <= last < len(node):
+                raise DesignError(key, last, f"is not an item of the list, so --vary {key} cannot set it")
+        elif not isinstance(node, dict):
+            raise DesignError(key, last, f"--vary {key}: the parent is a list, not a table")
         node[last] = value
     return out
+
+
+def _shown(steps: list[str | int]) -> str:
+    text = ""
+    for st in steps:
+        text += f"[{st}]" if isinstance(st, int) else (("." if text else "") + st)
+    return text

@@ -62,6 +62,8 @@ def variant_id(design: Design, request: SweepRequest) -> str:
 
 
 def is_complete(folder: Path, design: Design, request: SweepRequest) -> bool:
+    """True only if ``folder`` holds a finished output for this request whose every listed file
+    exists with its recorded size and SHA-256 (``manifest_is_current``); else it is rebuilt."""
     if request.family_levels:
         plan = plan_family(request.family_levels, request.family_ratio)
         return family_is_current(folder, design, plan, request.formats, request.options)

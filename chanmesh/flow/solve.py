@@ -1,0 +1,277 @@
+"""Newton solve of fully developed flow in a bent (or straight) duct at a prescribed flow rate.
+
+The unknowns are the velocity and pressure of ``equations`` plus the driving gradient G; the
+flow-rate condition  int w dA = Q  is the extra equation (a bordered Newton system, solved by a
+sparse direct factorisation). Newton starts from rest (its first step is the Stokes solution) or
+from a given solution; when it fails, the flow rate is approached by continuation, halving the
+step after each failure. Dimensionless inside with the viscous velocity scale nu / L (L = D_h),
+so the continuation parameter is the dimensionless flow rate itself.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from typing import Any, Sequence
+
+import numpy as np
+
+from chanmesh.errors import ChanmeshError
+from chanmesh.flow import equations as eq
+from chanmesh.flow.discrete import Discrete, discretise, solve_free
+from chanmesh.flow.grid import SectionGrid, default_grid, shape_of
+from chanmesh.flow.result import SectionFlow, find_vortices
+from chanmesh.numbers.regime import dean_number
+
+MAX_NEWTON = 25
+NEWTON_TOL = 1e-10  # relative size of the last Newton update
+MAX_HALVINGS = 14
+PSI_FLOOR = 1e-9
+"""No vortex cells are reported when max |psi| is below this fraction of U D_h (a still section)."""
+ORDER_ASSUMED = 2.0
+"""Convergence order assumed by the Richardson error estimate: the order measured for the
+secondary maximum on three grids is 2.3-3 (tests/test_flow_convergence.py); 2 is the cautious
+end."""
+
+
+class FlowNotConverged(ChanmeshError):
+    """Newton failed even with continuation; the message names the flow and Dean number reached."""
+
+
+def _newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: np.ndarray) -> tuple[np.ndarray, float, int]:
+    """Bordered Newton iteration for (x, G) at dimensionless flow rate ``q``; raises on failure.
+
+    Each step solves  J dx - m dG = -F,  m . (x + dx) = q  by one sparse LU of J and two
+    back-substitutions (m: the streamwise load, the column of G)."""
+    from scipy.sparse.linalg import splu
+
+    free = d.free
+    m = load[free]
+    for it in range(1, MAX_NEWTON + 1):
+        res = eq.residual(d.tables, kappa, x, g)
+        mat = eq.jacobian(d.tables, kappa, x)[free][:, free].tocsc()
+        try:
+            lu = splu(mat, diag_pivot_thresh=0.01)
+        except RuntimeError:  # exactly singular
+            raise _Diverged from None
+        y1 = lu.solve(-res[free])
+        y2 = lu.solve(m)
+        dg = (q - load @ x - m @ y1) / (m @ y2)
+        step = y1 + dg * y2
+        if not (np.all(np.isfinite(step)) and math.isfinite(dg)):
+            raise _Diverged
+        x = x.copy()
+        x[free] += step
+        g += float(dg)
+        size = float(np.max(np.abs(step))) / max(1.0, float(np.max(np.abs(x))))
+        if not math.isfinite(size) or size > 1e6:
+            raise _Diverged
+        if size < NEWTON_TOL:
+            return x, g, it
+    raise _Diverged
+
+
+class _Diverged(Exception):
+    pass
+
+
+def _continue(d: Discrete, kappa: float, q_target: float, x: np.ndarray, g: float, q_start: float,
+              describe: Any) -> tuple[np.ndarray, float, dict[str, Any]]:
+    """From a solution at ``q_start`` to ``q_target``, halving the step after each failure."""
+    load = eq.streamwise_load(d.tables)
+    q_done, q_try = q_start, q_target
+    steps, newton, halvings = 0, 0, 0
+    while True:
+        scale = q_try / q_done if q_done > 0 else 1.0
+        try:
+            x1, g1, its = _newton(d, kappa, q_try, x * scale, g * scale, load)
+        except _Diverged:
+            halvings += 1
+            if halvings > MAX_HALVINGS:
+                raise FlowNotConverged(describe(q_done, q_target)) from None
+            q_try = q_done + 0.5 * (q_try - q_done)
+            continue
+        steps += 1
+        newton += its
+        x, g, q_prev, q_done = x1, g1, q_done, q_try
+        if q_done >= q_target * (1 - 1e-14):
+            return x, g, {"continuation_steps": steps, "newton_iterations": newton, "step_halvings": halvings}
+        q_try = min(q_target, q_done + 2.0 * (q_done - q_prev))
+
+
+def _straight_gradient(d: Discrete, q: float) -> float:
+    """Dimensionless G of the straight duct carrying ``q`` (Poisson, same grid and element)."""
+    k = eq.poisson.assemble(d.scalar)
+    f = eq.unit_load.assemble(d.scalar)
+    w = solve_free(k.tocsr(), f, d.scalar_free)
+    return q / float(f @ w)
+
+
+def _stream_function(d: Discrete, kappa: float, un: np.ndarray, uz: np.ndarray) -> np.ndarray:
+    lhs, rhs = eq.stream_forms(kappa)
+    a = lhs.assemble(d.scalar)
+    b = rhs.assemble(d.scalar, un=d.scalar.interpolate(un), uz=d.scalar.interpolate(uz))
+    return solve_free(a.tocsr(), b, d.scalar_free)
+
+
+def solve_section_flow(section: Any, radius: float | None, density: float, viscosity: float, flow_rate: float,
+                       grid: SectionGrid | None = None, discretisation: str = "reference", initial: SectionFlow | None = None,
+                       estimate_error: bool | None = None) -> SectionFlow:
+    """Fully developed laminar flow of ``section`` bent at ``radius`` (m; None = straight) carrying
+    ``flow_rate`` (m^3/s) of a fluid of ``density`` (kg/m^3) and ``viscosity`` (Pa s).
+
+    ``radius`` > 0: centre of curvature on the u < 0 side (a left turn, the README's frame);
+    < 0: on the u > 0 side (a right turn). ``grid`` defaults to ``default_grid(section)``.
+    ``discretisation``: "reference" (P2-P1) or "grid" (MINI on the grid's own nodes).
+    ``initial``: a solution on the same grid and discretisation to start Newton from.
+    ``estimate_error`` (default: for the reference on a default grid): Richardson estimate from a
+    second grid with half the cells each way.
+    """
+    shape = shape_of(section)
+    for key, value in (("density", density), ("viscosity", viscosity), ("flow rate", flow_rate)):
+        if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
+            raise ChanmeshError(f"section flow: {key} = {value!r}: must be a finite number greater than 0")
+    if radius is not None and not (math.isfinite(radius) and abs(radius) > 0.5 * shape.width):
+        raise ChanmeshError(f"section flow: radius = {radius!r} m: |R| must exceed half the width "
+                            f"({0.5 * shape.width * 1e6:.6g} um), or be None for a straight duct")
+    made_default = grid is None
+    grid = default_grid(shape) if grid is None else grid
+    t0 = time.perf_counter()
+    length = shape.hydraulic_diameter
+    d = discretise(grid, discretisation, length)
+    scale_v = viscosity / (density * length)  # m/s per dimensionless velocity
+    q_target = flow_rate / (scale_v * length**2)
+    kappa = 0.0 if radius is None else length / radius
+    u_mean = flow_rate / shape.area
+    re = density * u_mean * length / viscosity
+    de_of = (lambda q: None) if radius is None else (
+        lambda q: dean_number(re * q / q_target, length, abs(radius)))
+
+    def describe(q_done: float, q_want: float) -> str:
+        got = q_done * scale_v * length**2
+        de = de_of(q_done)
+        return (f"section flow did not converge: Newton with continuation reached {got * 6e7:.4g} mL/min"
+                + (f" (De = {de:.4g})" if de is not None else "")
+                + f" of the {flow_rate * 6e7:.4g} mL/min asked"
+                + (f" (De = {de_of(q_want):.4g})" if radius is not None else "")
+                + "; the fully developed state may not exist or be unstable there: try a lower flow or a finer grid")
+
+    x0, g0, q0 = np.zeros(d.size), 0.0, 0.0
+    if initial is not None and initial.state is not None and initial.state["n"] == d.size \
+            and initial.state["kind"] == discretisation:
+        x0 = initial.state["x"] / scale_v
+        g0 = initial.state["g"] / (viscosity * scale_v / length**2)
+        q0 = initial.flow_rate / (scale_v * length**2)
+    if q0 > 0:
+        x, g, info = _continue(d, kappa, q_target, x0, g0, q0, describe)
+    else:
+        # Newton from rest: its first step is the Stokes solution at the target flow rate
+        try:
+            x, g, its = _newton(d, kappa, q_target, x0, 0.0, eq.streamwise_load(d.tables))
+            info = {"continuation_steps": 1, "newton_iterations": its, "step_halvings": 0}
+        except _Diverged:
+            q_small = q_target / 64.0
+            x, g, its = _newton(d, kappa, q_small, x0, 0.0, eq.streamwise_load(d.tables))
+            x, g, info = _continue(d, kappa, q_target, x, g, q_small, describe)
+            info["newton_iterations"] += its
+    g_straight = _straight_gradient(d, q_target)
+    flow = _assemble_result(d, shape, radius, density, viscosity, flow_rate, kappa, x, g, g_straight,
+                            scale_v, re, grid, discretisation)
+    info["solve_seconds"] = time.perf_counter() - t0
+    info["method"] = ("bordered Newton on (velocity, pressure, G) with the flow-rate condition as the extra "
+                      "equation (one sparse LU per step, SuperLU); continuation in the flow rate")
+    error = None
+    if estimate_error is None:
+        estimate_error = discretisation == "reference" and made_default
+    if estimate_error:
+        error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation)
+    return _replace(flow, solver=info, error=error)
+
+
+def _replace(flow: SectionFlow, **changes: Any) -> SectionFlow:
+    import dataclasses
+
+    return dataclasses.replace(flow, **changes)
+
+
+def _assemble_result(d: Discrete, shape: Any, radius: float | None, density: float, viscosity: float, flow_rate: float,
+                     kappa: float, x: np.ndarray, g: float, g_straight: float, scale_v: float, re: float,
+                     grid: SectionGrid, discretisation: str) -> SectionFlow:
+    L = d.length
+    nv = d.scalar.N
+    un, wt, uz = x[:nv], x[nv:2 * nv], x[2 * nv:3 * nv]
+    nodes = d.node_dofs
+    pts = d.out_points * L
+    stream = wt[nodes] * scale_v
+    sec_u, sec_z = un[nodes] * scale_v, uz[nodes] * scale_v
+    psi = _stream_function(d, kappa, un, uz)[nodes] * scale_v * L
+    speed = np.hypot(sec_u, sec_z)
+    area_nd = float(np.sum(d.tables.dx))  # the grid's area (exact for straight-sided cells)
+    mean_speed = float(eq.in_plane_speed.assemble(d.scalar, un=d.scalar.interpolate(un), uz=d.scalar.interpolate(uz)))
+    mean_speed = mean_speed / area_nd * scale_v
+    k = int(np.argmax(stream))
+    g_scale = viscosity * scale_v / L**2  # Pa/m per dimensionless G
+    boundary = _boundary_nodes(d)
+    u_mean = flow_rate / shape.area
+    vortices = find_vortices(pts, d.out_triangles, psi, boundary, floor=PSI_FLOOR * u_mean * L)
+    de = None if radius is None else dean_number(re, L, abs(radius))
+    state = {"x": x * scale_v, "g": g * g_scale, "n": d.size, "kind": discretisation}
+    grid_info = {**grid.to_dict(), "element": "P2-P1 Taylor-Hood" if discretisation == "reference" else "MINI (P1+bubble)-P1",
+                 "velocity_nodes": int(len(nodes))}
+    return SectionFlow(
+        flow_rate=flow_rate, mean_velocity=u_mean, max_streamwise=float(stream[k]),
+        u_of_streamwise_max=float(pts[k, 0]), z_of_streamwise_max=float(pts[k, 1]),
+        dpds=g * g_scale, dpds_straight=g_straight * g_scale, dpds_ratio=g / g_straight,
+        secondary_max=float(speed.max()), secondary_mean=mean_speed, vortices=tuple(vortices),
+        reynolds=re, dean=de, radius=radius, hydraulic_diameter=L, area=shape.area,
+        density=density, viscosity=viscosity, discretisation=discretisation, grid=grid_info, error=None, solver={},
+        points=pts, triangles=d.out_triangles, streamwise=stream, secondary_u=sec_u, secondary_z=sec_z,
+        stream_function=psi, state=state,
+    )
+
+
+def _boundary_nodes(d: Discrete) -> np.ndarray:
+    """Indices into the output nodes that lie on the walls."""
+    wall = np.asarray(d.scalar.get_dofs().all())
+    return np.flatnonzero(np.isin(d.node_dofs, wall))
+
+
+ERROR_KEYS = ("secondary_max", "secondary_mean", "dpds", "max_streamwise")
+
+
+def _richardson(flow: SectionFlow, section: Any, grid: SectionGrid, radius: float | None, density: float,
+                viscosity: float, flow_rate: float, discretisation: str) -> dict[str, Any] | None:
+    """Relative error estimates |f_h - f_2h| / (2^p - 1) / |f_h| from a grid with half the cells."""
+    if grid.shape is None:
+        return {"method": "not estimated: the grid is not structured", "relative": None}
+    nx, nz = grid.shape
+    coarse_grid = default_grid(section, max(2, nx // 2), max(2, nz // 2))
+    coarse = solve_section_flow(section, radius, density, viscosity, flow_rate, coarse_grid, discretisation,
+                                estimate_error=False)
+    factor = 2.0**ORDER_ASSUMED - 1.0
+    rel = {}
+    for key in ERROR_KEYS:
+        fine, rough = getattr(flow, key), getattr(coarse, key)
+        rel[key] = abs(fine - rough) / factor / abs(fine) if fine else None
+    return {
+        "method": (f"Richardson: |f(h) - f(2h)| / (2^p - 1) / |f(h)| with p = {ORDER_ASSUMED:g} (assumed; "
+                   f"cautious against the measured 2.3-3), coarse grid {coarse_grid.description}"),
+        "relative": rel,
+        "coarse_values": {k: getattr(coarse, k) for k in ERROR_KEYS},
+        "coarse_vortex_cells": coarse.cell_count,
+    }
+
+
+def flow_range(section: Any, radius: float | None, density: float, viscosity: float, flow_rates: Sequence[float],
+               grid: SectionGrid | None = None, discretisation: str = "reference",
+               estimate_error: bool = False) -> list[SectionFlow]:
+    """Solutions at each of ``flow_rates`` (ascending is best), each started from the previous one."""
+    out: list[SectionFlow] = []
+    grid = default_grid(shape_of(section)) if grid is None else grid
+    prev: SectionFlow | None = None
+    for q in flow_rates:
+        start = prev if prev is not None and prev.flow_rate <= q else None
+        prev = solve_section_flow(section, radius, density, viscosity, float(q), grid, discretisation, start,
+                                  estimate_error=estimate_error)
+        out.append(prev)
+    return out
