@@ -269,8 +269,6 @@ def test_names_cannot_escape_the_output_folder(name):
         assert (out / f"{design.name}{suffix}").resolve().parent == out
 
 
-@pytest.mark.xfail(strict=True, reason="StagedOutput.commit removes the old manifest and moves files one by one; "
-                   "the 'robust' helper is fixing it (remove this mark when that lands)")
 def test_failed_commit_leaves_the_previous_output_complete(tmp_path, monkeypatch):
     """The rename step itself fails half-way (the second file cannot be moved into place): the
     folder must still hold the previous complete output, every file matching its manifest."""
