@@ -193,3 +193,16 @@ def test_rebuild_replaces_the_case_folder(tmp_path, capsys):
     for entry in manifest["files"]:
         assert (out / entry["name"]).stat().st_size == entry["bytes"]
     assert not [p for p in out.iterdir() if p.name.startswith(".")]
+
+
+def test_a_users_own_openfoam_folder_is_not_replaced(tmp_path, capsys):
+    """Only a case folder the previous build listed in its manifest is replaced; a folder of the
+    same name that chanmesh did not write stops the build with one line (exit 2)."""
+    d = tmp_path / "d.toml"
+    d.write_text(arc_case_text("mine", "hex", "cells_across = 4\ncells_along = 6"))
+    out = tmp_path / "o"
+    (out / "openfoam").mkdir(parents=True)
+    (out / "openfoam" / "notes.txt").write_text("mine")
+    assert main(["build", str(d), "--format", "openfoam", "--out", str(out), "--quiet"]) == 2
+    assert "in the way" in capsys.readouterr().err
+    assert (out / "openfoam" / "notes.txt").read_text() == "mine"
