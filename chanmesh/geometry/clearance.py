@@ -10,13 +10,12 @@ Sampled every ``width / 8``; the figures are exact to well under 1 % of the widt
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 from scipy.spatial import cKDTree
 
-from chanmesh.geometry.centerline import Arc, Centerline, Spiral
+from chanmesh.geometry.centerline import Centerline
 
 
 @dataclass(frozen=True)
@@ -30,21 +29,9 @@ class CloseRuns:
     distance: float
 
 
-def sample_arc_lengths(line: Centerline, spacing: float) -> np.ndarray:
-    """Arc lengths every ``spacing`` or closer, keeping every segment join (curved pieces get at
-    least 16 intervals)."""
-    out = [np.array([0.0])]
-    for seg, s0 in zip(line.segments, line.breaks[:-1]):
-        k = max(1, int(math.ceil(seg.length / spacing)))
-        if isinstance(seg, (Arc, Spiral)):
-            k = max(k, 16)
-        out.append(s0 + np.linspace(0.0, seg.length, k + 1)[1:])
-    return np.concatenate(out)
-
-
 def close_runs(line: Centerline, min_distance: float, spacing: float) -> CloseRuns | None:
     """The closest pair of points on different runs nearer than ``min_distance``, or None."""
-    s = sample_arc_lengths(line, spacing)
+    s = line.samples(spacing)
     p = line.points(s)[:, :2]
     pairs = cKDTree(p).query_pairs(min_distance, output_type="ndarray")
     if len(pairs) == 0:
