@@ -23,7 +23,7 @@ ORDER = 70
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("design", type=Path, help="design file (TOML); --vary values are in its unit")
     p.add_argument("--vary", action="append", default=[], metavar="KEY=SPEC",
-                   help="a design key and its values: a:b:n (n values from a to b) or v1,v2,... (repeatable)")
+                   help="a design key (list items by index: path.segments[1].arc) and its values: a:b:n (n values from a to b) or v1,v2,... (repeatable)")
     p.add_argument("--zip", action="store_true", help="pair the --vary lists element by element instead of the product")
     p.add_argument("--family", type=whole_number, default=0, metavar="N", help=f"build a mesh family of N levels (2-{MAX_LEVELS}) per variant")
     p.add_argument("--ratio", type=finite_float, default=1.5, help="family refinement ratio (default 1.5)")
