@@ -27,8 +27,11 @@ ManifestHook = Callable[[Design, ChannelMesh], dict[str, Any]]
 
 def _numbers(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
     from chanmesh.numbers import design_numbers
+    from chanmesh.numbers.section_flow import section_flow_numbers
 
-    return design_numbers(design)
+    out = design_numbers(design)
+    out["section_flow"] = section_flow_numbers(design)  # computed Dean flow beside the correlation
+    return out
 
 
 def _quality(design: Design, mesh: ChannelMesh) -> dict[str, Any]:

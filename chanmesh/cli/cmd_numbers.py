@@ -38,6 +38,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--biological", action=argparse.BooleanOptionalAction, default=None,
                         help="the fluid is a biological sample (default: guessed from the fluid name)")
     parser.add_argument("--json", metavar="PATH", help="also write the numbers as JSON (SI units) to PATH")
+    parser.add_argument("--section-flow", action=argparse.BooleanOptionalAction, default=True,
+                        help="solve the fully developed section flow at the first Dean station (about 1 s; default on)")
 
 
 def _with_unit(key: str, text: str, table: dict[str, float], example: str) -> float:
@@ -84,6 +86,10 @@ def run(args: argparse.Namespace) -> int:
     design = load_design(args.design)
     flow = dataclasses.replace(design.flow, **overrides(args))
     numbers = design_numbers(design, flow)
+    if args.section_flow:
+        from chanmesh.numbers.section_flow import section_flow_numbers
+
+        numbers["section_flow"] = section_flow_numbers(design, flow)
     print(render(numbers), end="")
     if args.json:
         path = write_json(numbers, args.json)
