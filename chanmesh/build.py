@@ -78,7 +78,10 @@ def build_request(formats: tuple[str, ...], options: WriteOptions, scale: float 
     if not formats:
         raise DesignError("--format", "", "names no format; give at least one, e.g. msh,xdmf,vtu")
     chosen = [format_named(f).name for f in dict.fromkeys(formats)]
-    return {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    request = {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    if not options.msh_sections:  # only when asked, so that earlier builds keep their design hash
+        request["msh_sections"] = False
+    return request
 
 
 def build(
@@ -93,6 +96,8 @@ def build(
     clock = clock or StageClock(quiet=True)
     request = build_request(formats, options, scale)
     chosen = [format_named(f) for f in dict.fromkeys(formats)]
+    for fmt in chosen:
+        fmt.check_design(design)
     estimate = check_estimate(design, scale)
     with StagedOutput(Path(out)) as staged:
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
@@ -118,7 +123,7 @@ def build(
         draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
         files.append(write_report(staged.stage, design, mesh, draft, files))
         clock("manifest")
-        manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups)
+        manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")
         final = staged.commit(MANIFEST)
     clock("done")

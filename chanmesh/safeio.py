@@ -106,6 +106,23 @@ def listed_files(manifest: Path) -> list[str]:
     return names
 
 
+def listed_folders(manifest: Path) -> list[str]:
+    """Top-level folders a manifest lists files in (``openfoam`` for ``openfoam/0/U``): outputs
+    written as a whole folder, such as a solver case."""
+    try:
+        data = json.loads(manifest.read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return []
+    entries = data.get("files") if isinstance(data, dict) else None
+    out = []
+    for e in entries if isinstance(entries, list) else []:
+        name = e.get("name") if isinstance(e, dict) else None
+        parts = Path(name).parts if isinstance(name, str) else ()
+        if len(parts) > 1 and parts[0] not in (".", "..", "/") and not Path(name).is_absolute():
+            out.append(parts[0])
+    return list(dict.fromkeys(out))
+
+
 class StagedOutput:
     """Context manager: write into ``.stage``, then ``commit(manifest_name)`` moves files into
     ``folder``. Leaving the block without commit (error, interrupt) deletes the stage and leaves
@@ -134,11 +151,13 @@ class StagedOutput:
         names = sorted(p.name for p in self.stage.iterdir() if p.name != manifest_name)
         manifest = self.folder / manifest_name
         old = [n for n in listed_files(manifest) if n != manifest_name]
+        old_folders = listed_folders(manifest)  # folder outputs of the previous build (a solver case)
         for name in names:
-            if (self.folder / name).is_dir() and not (self.folder / name).is_symlink():
+            if (self.folder / name).is_dir() and not (self.folder / name).is_symlink() and name not in old_folders:
                 raise OutputError(f"cannot write {str(self.folder / name)!r}: a folder of that name is in the way; "
                                   "move it or choose another --out (the previous output was kept)")
-        aside = [n for n in dict.fromkeys([*old, *names]) if _is_file(self.folder / n)]
+        aside = [n for n in dict.fromkeys([*old, *old_folders, *names])
+                 if _is_file(self.folder / n) or (n in old_folders and (self.folder / n).is_dir())]
         backup = Path(tempfile.mkdtemp(prefix=BACKUP_PREFIX, dir=self.folder))
         moved_aside: list[str] = []  # in the backup, to move back on failure
         moved_in: list[str] = []  # new names in place, to take out on failure
@@ -180,7 +199,10 @@ def _roll_back(folder: Path, backup: Path, moved_in: list[str], moved_aside: lis
     """Undo a partial commit: new files out, the previous ones (manifest last) back in."""
     for name in moved_in:
         try:
-            os.unlink(folder / name)
+            if (folder / name).is_dir() and not (folder / name).is_symlink():
+                shutil.rmtree(folder / name)  # a folder output (solver case)
+            else:
+                os.unlink(folder / name)
         except OSError:
             pass
     manifest_first = moved_aside[:1]

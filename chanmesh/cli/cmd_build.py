@@ -45,6 +45,9 @@ def add_format_arguments(p: argparse.ArgumentParser) -> None:
     )
     p.add_argument("--msh-version", choices=("4.1", "2.2"), default="4.1", help="MSH file version (default 4.1)")
     p.add_argument("--binary", action="store_true", help="binary MSH instead of ASCII")
+    p.add_argument("--msh-no-sections", action="store_true",
+                   help="leave the internal section_k surfaces out of the MSH (OpenFOAM's gmshToFoam turns them into "
+                        "empty patches and warns about each; --format openfoam keeps them as face zones)")
     p.add_argument("--quiet", action="store_true", help="no progress lines")
     fab = p.add_argument_group("fabrication outputs (override the design's [fabrication] table)")
     fab.add_argument("--mould-margin", metavar="LENGTH", help="mould plate beyond the footprint, with unit (e.g. 2mm)")
@@ -72,7 +75,7 @@ def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Desi
 
 
 def write_options(args: argparse.Namespace) -> WriteOptions:
-    return WriteOptions(args.msh_version, args.binary)
+    return WriteOptions(args.msh_version, args.binary, not getattr(args, "msh_no_sections", False))
 
 
 def run(args: argparse.Namespace) -> int:
