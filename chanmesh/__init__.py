@@ -11,6 +11,7 @@ The package is layered (see DEVELOPERS.md):
 * ``cli``      -- the ``chanmesh`` command, one module per subcommand.
 """
 
+import chanmesh.interrupt  # noqa: F401  first: a Ctrl-C during the imports below exits 130 with one line
 from chanmesh.errors import ChanmeshError, DesignError, MeshFileError
 
 __version__ = "0.1.0"

@@ -1,7 +1,11 @@
 """The build: design in, checked and labelled mesh files plus a manifest out.
 
-    design -> estimate (refuse above max_cells) -> mesh -> check tagging -> write formats
-           -> report.html -> manifest -> rename everything into place (manifest last)
+    design -> estimate (refuse above max_cells) -> mesh -> check tagging -> manifest hooks
+           (quality, numbers) -> measure groups (once) -> write formats -> report.html
+           -> manifest -> rename everything into place (manifest last)
+
+Each arrow is a stage of the ``StageClock``; the manifest's ``timings_s`` holds each stage's
+duration and the total (``StageClock.durations``).
 """
 
 from __future__ import annotations
@@ -13,7 +17,8 @@ from typing import Any, Callable
 
 from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
-from chanmesh.manifest import MANIFEST, canonical_json, make_manifest
+from chanmesh.manifest import MANIFEST, canonical_json, group_records, make_manifest
+from chanmesh.meshing.faces import forget_face_tables
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.registry import mesher_for
 from chanmesh.meshing.verify import check_boundary_tagging
@@ -27,8 +32,11 @@ ManifestHook = Callable[[Design, ChannelMesh], dict[str, Any]]
 
 def _numbers(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
     from chanmesh.numbers import design_numbers
+    from chanmesh.numbers.section_flow import section_flow_numbers
 
-    return design_numbers(design)
+    out = design_numbers(design)
+    out["section_flow"] = section_flow_numbers(design)  # computed Dean flow beside the correlation
+    return out
 
 
 def _quality(design: Design, mesh: ChannelMesh) -> dict[str, Any]:
@@ -81,7 +89,10 @@ def build_request(formats: tuple[str, ...], options: WriteOptions, scale: float 
     if not formats:
         raise DesignError("--format", "", "names no format; give at least one, e.g. msh,xdmf,vtu")
     chosen = [format_named(f).name for f in dict.fromkeys(formats)]
-    return {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    request = {"formats": chosen, "msh_version": options.msh_version, "binary": options.binary, "scale": scale}
+    if not options.msh_sections:  # only when asked, so that earlier builds keep their design hash
+        request["msh_sections"] = False
+    return request
 
 
 def build(
@@ -96,26 +107,34 @@ def build(
     clock = clock or StageClock(quiet=True)
     request = build_request(formats, options, scale)
     chosen = [format_named(f) for f in dict.fromkeys(formats)]
+    for fmt in chosen:
+        fmt.check_design(design)
     estimate = check_estimate(design, scale)
     with StagedOutput(Path(out)) as staged:
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
+        clock("checking")
         counts = check_boundary_tagging(mesh)
         mesh.info["estimated_cells"] = estimate
         mesh.info.update(counts)
-        clock("writing")
-        files: list[Path] = []
-        for fmt in chosen:
-            files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         extra = {}
         for name, hook in MANIFEST_HOOKS:
+            clock(name)
             try:
                 extra[name] = hook(design, mesh)
             except DesignError as exc:
                 extra[name] = {"skipped": str(exc)}
+        forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
+        clock("measuring")
+        groups = group_records(design, mesh)
+        files: list[Path] = []
+        for fmt in chosen:
+            clock(f"writing {fmt.name}")
+            files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         clock("report")
-        draft = make_manifest(design, mesh, [], request, dict(clock.marks), extra)  # no file hashes yet
+        draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
         files.append(write_report(staged.stage, design, mesh, draft, files))
-        manifest = make_manifest(design, mesh, files, request, dict(clock.marks), extra)
+        clock("manifest")
+        manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")
         final = staged.commit(MANIFEST)
     clock("done")

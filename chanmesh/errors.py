@@ -27,6 +27,9 @@ class DesignError(ChanmeshError, ValueError):
         shown = "(missing)" if value is _MISSING else f"= {_show(value)}"
         super().__init__(f"{key} {shown}: {allowed}")
 
+    def __reduce__(self) -> tuple:  # pickles (e.g. from the tet meshing process) with its fields
+        return (self.__class__, (self.key, self.value, self.allowed))
+
 
 class StudyError(DesignError):
     """A convergence-study table (results CSV, family.json) that cannot be used as given.
@@ -44,9 +47,16 @@ class OutputError(ChanmeshError):
     """An output location that cannot be written (permissions, disk full, bad name)."""
 
 
+class MeshingError(ChanmeshError):
+    """The mesher could not finish this design (a time limit, or gmsh stopping); one line."""
+
+
 class _Missing:
     def __repr__(self) -> str:
         return "(missing)"
+
+    def __reduce__(self) -> str:
+        return "_MISSING"  # unpickles as the module's one instance
 
 
 _MISSING = _Missing()

@@ -31,6 +31,7 @@ from typing import Any
 from chanmesh.build import build, build_request, check_estimate
 from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
+from chanmesh.family_limits import MAX_LEVELS, RATIO_RANGE
 from chanmesh.manifest import design_hash, manifest_is_current, read_manifest
 from chanmesh.post.gci_table import size_from_cells
 from chanmesh.post.quality import summary_figures
@@ -40,8 +41,6 @@ from chanmesh.writers import DEFAULT_FORMATS, WriteOptions
 
 FAMILY_FILE = "family.json"
 SCHEMA = "chanmesh-family/1"
-MAX_LEVELS = 6
-RATIO_RANGE = (1.1, 4.0)
 MIN_RECOMMENDED_RATIO = 1.3
 """Celik et al. (2008), J. Fluids Eng. 130(7) 078001, step 2: the refinement factor
 r = h_coarse / h_fine should be greater than 1.3."""

@@ -109,10 +109,15 @@ def make_manifest(
     request: dict[str, Any],
     timings: dict[str, float],
     extra: dict[str, Any] | None = None,
+    groups: list[dict[str, Any]] | None = None,
+    root: Path | None = None,
 ) -> dict[str, Any]:
-    """The manifest for files already written (hashes are read from them)."""
+    """The manifest for files already written (hashes are read from them). ``groups`` are the
+    records of ``group_records`` when the caller has them already (measured once per build).
+    File names are relative to ``root`` when given (files in sub-folders, e.g. ``openfoam/0/U``)."""
     ref = reference_of(design)
-    entries = [{"name": p.name, "bytes": p.stat().st_size, "sha256": file_sha256(p)} for p in sorted(files)]
+    entries = [{"name": p.relative_to(root).as_posix() if root else p.name, "bytes": p.stat().st_size,
+                "sha256": file_sha256(p)} for p in sorted(files)]
     content = hashlib.sha256("".join(e["name"] + e["sha256"] for e in entries).encode()).hexdigest()
     manifest: dict[str, Any] = {
         "schema": SCHEMA,
@@ -131,7 +136,7 @@ def make_manifest(
         "cells": mesh.cell_counts(),
         "volume_cells": mesh.n_volume_cells,
         "points": len(mesh.points),
-        "groups": group_records(design, mesh),
+        "groups": group_records(design, mesh) if groups is None else groups,
         "mesher": mesh.info,
         "timings_s": timings,
         "files": entries,

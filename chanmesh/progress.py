@@ -26,6 +26,17 @@ class StageClock:
         if not self.quiet:
             print(f"[{t:7.1f} s] {self.prefix}{stage}", file=self.stream, flush=True)
 
+    def durations(self) -> dict[str, float]:
+        """Seconds spent in each stage so far (a stage lasts until the next one starts; the
+        last one until now), in stage order, then ``total``: the seconds since the clock
+        started (it includes any time before the first stage). The manifest's ``timings_s``."""
+        names = list(self.marks)
+        now = self.elapsed()
+        ends = [self.marks[n] for n in names[1:]] + [now]
+        out = {n: round(end - self.marks[n], 4) for n, end in zip(names, ends)}
+        out["total"] = round(now, 4)
+        return out
+
 
 class ProgressBar:
     """A text bar over ``total`` items on standard error, e.g. ``[####----] 2/4 level-2: meshing``.

@@ -30,3 +30,23 @@ def solve_potential(mesh, outlets=("outlet",)) -> tuple[float, float]:  # noqa: 
     x = skfem.solve(*skfem.condense(K, np.zeros(basis.N), x=x, D=np.concatenate([inlet, outlet])))
     reaction = K @ x
     return float(reaction[inlet].sum()), float(reaction[outlet].sum())
+
+
+def outlet_shares(mesh, outlets) -> dict[str, float]:  # noqa: ANN001
+    """Share of the inflow leaving through each outlet (same solve as ``solve_potential``); a
+    node on the line between two outlets gives half its reaction to each."""
+    element = skfem.ElementTetP2() if isinstance(mesh, skfem.MeshTet) else skfem.ElementHex1()
+    basis = skfem.Basis(mesh, element)
+    K = _laplace.assemble(basis)
+    inlet = basis.get_dofs("inlet").all()
+    groups = {n: basis.get_dofs(n).all() for n in outlets}
+    outlet = np.unique(np.concatenate(list(groups.values())))
+    x = np.zeros(basis.N)
+    x[inlet] = 1.0
+    x = skfem.solve(*skfem.condense(K, np.zeros(basis.N), x=x, D=np.concatenate([inlet, outlet])))
+    reaction = K @ x
+    owners = np.zeros(basis.N)
+    for dofs in groups.values():
+        owners[dofs] += 1
+    q_in = reaction[inlet].sum()
+    return {n: float(-(reaction[d] / owners[d]).sum() / q_in) for n, d in groups.items()}

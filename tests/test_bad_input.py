@@ -148,3 +148,86 @@ def test_argparse_errors_are_one_line(tmp_path, capsys):
     one_line(capsys, ["build"], "required")
     one_line(capsys, ["nosuchcommand"], "invalid choice")
     one_line(capsys, ["family", design_file(tmp_path, arc()), "--levels", "three"], "--levels")
+
+
+# --- item 1: a channel that runs into itself -------------------------------------------------------
+
+SECTION_100x50 = 'name = "touch"\nunit = "um"\n[section]\nwidth = 100\nheight = 50\n[path]\n'
+
+
+@pytest.mark.parametrize("path, keys", [
+    # the reproductions (100 x 50 um section)
+    ('kind = "arc"\nradius = 300\nangle = 340\ninlet_length = 300', ["path.inlet_length", "path.angle"]),
+    ('kind = "arc"\nradius = 300\nangle = 270\ninlet_length = 600\noutlet_length = 600',
+     ["path.outlet_length", "path.inlet_length"]),
+    ('kind = "spiral"\ninner_radius = 300\npitch = 150\nturns = 1.5\ninlet_length = 600', ["path.inlet_length", "path.turns"]),
+])
+def test_leads_that_run_into_the_channel_are_refused(tmp_path, capsys, path, keys):
+    one_line(capsys, ["build", design_file(tmp_path, SECTION_100x50 + path), "--out", str(tmp_path / "o")],
+             *keys, "runs into itself")
+    assert not (tmp_path / "o").exists()
+
+
+def test_lead_crossing_is_plain_geometry():
+    # outside check of the first reproduction, by hand: the inlet lead is the segment x = 300,
+    # y in [-300, 0]; the arc ends at 340 deg, at (300 cos 340, 300 sin 340) = (281.9, -102.6),
+    # heading along (-sin 340, cos 340); its centreline reaches x = 300 within the lead's span,
+    # so the two centrelines (and so the walls) cross.
+    import math
+
+    end = (300 * math.cos(math.radians(340)), 300 * math.sin(math.radians(340)))
+    assert 300 - end[0] < 50 and -300 < end[1] < 0  # the arc's end lies inside the lead's band
+
+
+@pytest.mark.parametrize("path", [
+    # tight but valid: walls of neighbouring runs at least 5 % of the width apart
+    'kind = "spiral"\ninner_radius = 100\npitch = 110\nturns = 5',
+    'kind = "spiral"\ninner_radius = 300\npitch = 150\nturns = 1.5',
+    'kind = "arc"\nradius = 51\nangle = 359',
+    'kind = "arc"\nradius = 80\nangle = 300\ninlet_length = 50',
+    'kind = "serpentine"\nradius = 52.5\nstraight = 500\nperiods = 3\ninlet_length = 300\noutlet_length = 300',
+])
+def test_tight_valid_designs_are_accepted(path):
+    from chanmesh.design.load import loads_design
+
+    loads_design(SECTION_100x50 + path)
+
+
+def test_wall_test_measures_the_gap():
+    # two parallel straight runs joined by a U-turn of radius R: the walls are 2 R - w apart
+    # (plane geometry); 4.5 % of the width passes, 3 % is refused
+    from chanmesh.design.model import ArcPiece, LinePiece
+    from chanmesh.geometry.centerline import lay_out
+    from chanmesh.geometry.clearance import wall_contact
+
+    w = 100.0
+    for radius, expected in ((52.25, None), (51.5, 3.0)):
+        line = lay_out([LinePiece(800), ArcPiece(radius, 180), LinePiece(800)])
+        hit = wall_contact(line, w, 4.0)
+        if expected is None:
+            assert hit is None
+        else:
+            assert hit is not None and hit.distance == pytest.approx(expected, abs=0.01)
+
+
+# --- item 3: features below the geometry kernel's tolerance ---------------------------------------
+
+@pytest.mark.parametrize("path, extra, key", [
+    ('kind = "arc"\nradius = 300\nangle = 90', '[outlets]\nsplit = [1e-9, 0.999999999]', "outlets.split[0]"),
+    ('kind = "arc"\nradius = 300\nangle = 1e-6', "", "path.angle"),
+    ('kind = "spiral"\ninner_radius = 300\npitch = 150\nturns = 1e-7', "", "path.turns"),
+    ('kind = "arc"\nradius = 300\nangle = 90\ninlet_length = 0.00001', "", "path.inlet_length"),
+    ('kind = "serpentine"\nradius = 300\nstraight = 1e-6\nperiods = 2', "", "path.straight"),
+    ('kind = "chambers"\ncount = 2\nchamber_length = 300\nchamber_width = 100.0001\nthroat_length = 200', "",
+     "path.chamber_width"),
+    ('kind = "serpentine"\nradius = 60\nstraight = "10m"\nperiods = 200', "", "path.straight"),
+])
+def test_features_below_the_kernel_tolerance_are_refused(tmp_path, capsys, path, extra, key):
+    text = SECTION_100x50 + path + "\n[mesh]\ncells = \"tet\"\n" + extra + "\n"
+    one_line(capsys, ["build", design_file(tmp_path, text), "--out", str(tmp_path / "o")], key)
+
+
+def test_zero_leads_stay_allowed():
+    from chanmesh.design.load import loads_design
+
+    loads_design(SECTION_100x50 + 'kind = "arc"\nradius = 300\nangle = 90\ninlet_length = 0\noutlet_length = 1')

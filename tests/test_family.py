@@ -15,7 +15,6 @@ from design_text import arc_text
 from chanmesh.design import loads_design
 from chanmesh.errors import DesignError
 from chanmesh.family import FAMILY_FILE, FamilyPlan, build_family, family_is_current, plan_family
-from chanmesh.meshing.registry import MESHERS
 from chanmesh.post.gci_table import read_family
 
 
@@ -97,7 +96,6 @@ def test_cli_family_prints_levels(tmp_path, capsys):
     assert "--levels = 9" in capsys.readouterr().err
 
 
-@pytest.mark.skipif("hex" not in MESHERS, reason="the hexahedral mesher is not registered on this branch (it lands with the hex branch)")
 def test_hex_family_scales_cell_counts_by_ratio_cubed(tmp_path):
     r = 2.0
     design = arc("hex", 4, "cells_high = 2\ncells_along = 10\nwall_ratio = 1")

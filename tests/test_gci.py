@@ -46,12 +46,22 @@ def test_celik_table1_column2():
 
 def test_celik_table1_column3_oscillatory():
     t = gci_three(h2d(N_B), (6.0042, 5.9624, 6.0909))
-    # Celik et al. (2008) Table 1, column 3: oscillatory, s = -1, p = 1.51.
+    # Celik et al. (2008) Table 1, column 3: oscillatory, s = -1, p = 1.51; r21 = 2 and
+    # r32 = (4500 / 980)^(1/2) = 2.143 from the cell counts of the same column.
+    assert t.r21 == pytest.approx(2.0, abs=5e-4)
+    assert t.r32 == pytest.approx(2.143, abs=5e-4)
     assert t.s == -1
     assert t.p == pytest.approx(1.51, abs=5e-3)
-    # Same table, phi_ext21 = 6.0269 and GCI_fine21 = 0.5 % (from memory of Table 1).
+    # an independent implementation of the same fixed-point iteration (oscar-monsalve/GCI on
+    # GitHub, tests/test_2d_p_value_oscillatory.py) gets p = 1.50769168965166 for these inputs
+    assert t.p == pytest.approx(1.5076917, abs=1e-6)
+    # Same table (from memory of Table 1, each checked here by hand from its definition):
+    # phi_ext21 = 6.0269; e_a21 = |6.0042 - 5.9624| / 6.0042 = 0.70 %;
+    # e_ext21 = |6.0269 - 6.0042| / 6.0269 = 0.38 %; GCI_fine21 = 1.25 e_a21 / (2^1.5077 - 1) = 0.47 %.
     assert t.phi_ext21 == pytest.approx(6.0269, abs=5e-5)
-    assert 100 * t.gci_fine == pytest.approx(0.5, abs=0.05)
+    assert 100 * t.e_a21 == pytest.approx(0.70, abs=5e-3)
+    assert 100 * t.e_ext21 == pytest.approx(0.38, abs=5e-3)
+    assert 100 * t.gci_fine == pytest.approx(0.47, abs=5e-3)
     assert t.convergence == "oscillatory" and "oscillatory" in t.flags
 
 

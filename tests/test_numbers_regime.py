@@ -19,8 +19,42 @@ def _design(path: str, flow: str = 'rate = "1mL/min"'):
 
 
 def test_dean_number_at_a_known_radius() -> None:
-    # De = Re sqrt(D_h / (2 R)) (definition stated in the output): Re 50, D_h 200 um, R 5 mm
-    assert regime.dean_number(50.0, 200e-6, 5e-3) == pytest.approx(50 * math.sqrt(0.02), rel=1e-12)
+    # De = Re (D / (2 R))^(1/2): the Dean number as defined for curved pipes (Dean 1928; the form
+    # with the diameter as in the review of Berger, Talbot & Yao 1983, from memory; it is the
+    # definition of the "Dean number" article of Wikipedia, checked), D the hydraulic diameter
+    # for other sections. By hand: Re 50, D_h 200 um, R 5 mm -> sqrt(0.02) = 0.14142136,
+    # De = 7.0710678
+    assert regime.dean_number(50.0, 200e-6, 5e-3) == pytest.approx(7.0710678, rel=1e-8)
+    # the other convention, Re (D_h / R)^(1/2) = 10.0, is a factor sqrt(2) away and must not match
+    assert regime.dean_number(50.0, 200e-6, 5e-3) != pytest.approx(10.0, rel=0.1)
+
+
+def test_spiral_dean_numbers_use_the_radius_of_curvature() -> None:
+    """The Dean numbers the design report gives at a spiral's stations, against a hand
+    computation: Re = rho U D_h / mu with U = Q / (w h) and D_h = 2 w h / (w + h); the radius of
+    curvature of the Archimedean spiral r = r0 + c theta from the polar-curve curvature
+    kappa = (r^2 + 2 r'^2 - r r'') / (r^2 + r'^2)^(3/2) (any calculus text), r' = c, r'' = 0;
+    De = Re (D_h / (2 R_c))^(1/2) (Dean 1928, as above). Using the distance from the centre r
+    instead of R_c would move De by about c^2 / (4 r^2) = 5.7e-4 at the first station."""
+    from chanmesh.numbers.report import design_numbers
+
+    d = _design('kind = "spiral"\ninner_radius = 2000\npitch = 600\nturns = 3.5',
+                'rate = "1mL/min"\nfluid = "test oil"\ndensity = 1000\nviscosity = 0.001')
+    rows = design_numbers(d)["dean"]["stations"]
+    w, h, q = 500e-6, 100e-6, 1e-6 / 60
+    d_h = 2 * w * h / (w + h)
+    re = 1000.0 * (q / (w * h)) * d_h / 1e-3  # 55.5556
+    assert re == pytest.approx(55.5556, rel=1e-6)
+    c = 600e-6 / (2 * math.pi)
+    assert [row["turn"] for row in rows] == [0.0, 1.0, 2.0, 3.0, 3.5]
+    for row in rows:
+        r = 2000e-6 + 600e-6 * row["turn"]
+        r_c = (r * r + c * c) ** 1.5 / (r * r + 2 * c * c)
+        assert row["curvature_radius_m"] == pytest.approx(r_c, rel=1e-12, abs=0)
+        assert row["dean"] == pytest.approx(re * math.sqrt(d_h / (2 * r_c)), rel=1e-9, abs=0)
+    # station 0 by hand: c = 95.4930 um, R_c = 4.00912e-6^1.5 / 4.01824e-6 = 1.99771 mm,
+    # De = 55.5556 * sqrt(166.667e-6 / 3.99543e-3) = 55.5556 * 0.204241 = 11.3467
+    assert rows[0]["dean"] == pytest.approx(11.3467, rel=1e-5)
 
 
 def test_dean_velocity_correlation_by_hand() -> None:

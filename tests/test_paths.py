@@ -280,3 +280,29 @@ def test_templates_build_with_both_meshers(template, cells, tmp_path):
     assert vol == pytest.approx(exact, rel=1e-2)
     expected = [*d.inlets.names, *d.outlets.names, "wall"]
     assert [n for n in grid.field_data.keys() if not n.startswith("section_")][: len(expected)] == expected
+
+
+def test_dean_stations_state_the_inner_wall_per_bend():
+    from chanmesh.numbers import regime
+
+    d = loads_design(segments_text(S_PIECES))
+    sts = regime.stations_of(d)
+    assert [(st.label, st.side, st.inner_wall) for st in sts] == [
+        ("bend 1", "left", "u = -w/2"), ("bend 2", "right", "u = +w/2"), ("bend 3", "left", "u = -w/2")]
+    assert [st.curvature_radius for st in sts] == pytest.approx([500e-6, 300e-6, 450e-6], rel=1e-12)
+    # each station at the middle of its arc: 700 + 500 * 137 deg / 2, ... (arc length R |a|)
+    s_mid = 700 + 500 * math.radians(137) / 2
+    assert sts[0].s * 1e6 == pytest.approx(s_mid, rel=1e-13)
+
+
+def test_inlet_shares_of_a_trapezoid_by_hand():
+    from chanmesh.numbers.report import inlet_shares
+
+    d = loads_design(segments_text(S_PIECES[:2], section='shape = "trapezoid"\nwidth = 200\nheight_inner = 40\nheight_outer = 80',
+                                   extra="[inlets]\nsplit = [0.25, 0.75]\n"))
+    rows = inlet_shares(d, 1e-9)
+    # the height runs linearly from 40 um at u = -w/2 to 80 um at +w/2: 50 um at the split
+    # (u = -50 um); trapezoid areas 50 (40 + 50) / 2 and 150 (50 + 80) / 2 um^2 of 200 (40 + 80) / 2
+    a1, a2, total = 50 * 45.0, 150 * 65.0, 200 * 60.0
+    assert [r["area_m2"] * 1e12 for r in rows] == pytest.approx([a1, a2], rel=1e-12)
+    assert [r["rate_m3_s"] for r in rows] == pytest.approx([1e-9 * a1 / total, 1e-9 * a2 / total], rel=1e-12)

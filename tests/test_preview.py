@@ -71,11 +71,19 @@ def arc_mesh(arc):
     return mesher_for(arc).mesh(arc)
 
 
-def test_plan_view_has_the_requested_size_and_is_not_blank(arc):
-    pic = plan_picture(arc, 900, 640)
+@pytest.mark.parametrize("size", [(900, 640), (1600, 1200)])
+def test_plan_view_channel_covers_the_plan_area(arc, size):
+    """The channel's fill colour covers the footprint worked by hand, w L with
+    L = inlet_length + R pi / 2 + outlet_length (offset-curve length, Goodman & Goodman 1969),
+    at the picture's own scale, less the outline stroke drawn over each wall: measured as a
+    2.8 px strip of the channel's width at three picture sizes (2 % allowed)."""
+    pic = plan_picture(arc, *size)
     img = _image(pic.png)
-    assert img.shape == (640, 900, 3)
+    assert img.shape == (size[1], size[0], 3)
     _not_blank(img)
+    fill = np.all(img == _rgb(WALL), axis=2).sum()
+    w_px, length_px = 0.2 * pic.px_per_mm, (0.5 + 2.0 * math.pi / 2 + 0.8) * pic.px_per_mm
+    assert fill == pytest.approx((w_px - 2.8) * length_px, rel=0.02)
 
 
 def test_plan_view_scale_bar_matches_the_drawing_scale(arc):

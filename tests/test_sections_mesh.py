@@ -59,7 +59,8 @@ def test_arc_three_sections():
 def test_spiral_sections_match_the_pipe():
     d = design('kind = "spiral"\ninner_radius = 800\npitch = 300\nturns = 1', '[0.3, "turn=0.75"]')
     mesh = mesh_tet(d)
-    # the spline pipe keeps within ~10 nm of the ideal wall at mm scale (GMSH-NOTES): 20 nm, 1e-4 area
+    # OCC sweeps the spiral as a spline pipe, not the exact curve: section nodes measured within
+    # 20 nm of the exact plane and section areas within 1e-4 on this design (the bounds asserted)
     check_sections(d, mesh, plane_tol=2e-8, area_rel=1e-4)
 
 

@@ -8,19 +8,31 @@ import pytest
 from chanmesh.sizing import capped_nodes
 
 
-@pytest.mark.parametrize("length,h1,ratio,h_max", [(1.0, 0.01, 1.2, 0.1), (3.0, 0.002, 1.15, 0.2), (0.1, 0.01, 1.3, 0.5)])
-def test_capped_progression(length, h1, ratio, h_max):
+# first cell and the number of steps from each wall that grow by exactly the ratio, worked by
+# hand from the sum of a geometric series (S = h1 (g^m - 1) / (g - 1)):
+# * 3.0, 0.002, 1.15, 0.2: m = ceil(ln(100) / ln(1.15)) = 33 ramp cells summing to 1.329 per side,
+#   leaving 0.342 for the uniform middle: first cell h1 = 0.002 exactly, 32 steps of 1.15;
+# * 1.0, 0.01, 1.2, 0.1: two 13-cell ramps would need 0.97 + a middle larger than their last
+#   cell, so the ramps meet: the smallest symmetric progression with a first cell <= h1 has
+#   27 cells, h1 = 1 / (2 (1.2^13 - 1) / 0.2 + 1.2^13) = 1 / 107.692 = 0.0092857, 13 steps;
+# * 0.1, 0.01, 1.3, 0.5: likewise 7 cells, h1 = 0.1 / (2 (1.3^3 - 1) / 0.3 + 1.3^3) = 0.0098261, 3 steps.
+CASES = [(3.0, 0.002, 1.15, 0.2, 0.002, 32, 68), (1.0, 0.01, 1.2, 0.1, 0.0092857, 13, 27), (0.1, 0.01, 1.3, 0.5, 0.0098261, 3, 7)]
+
+
+@pytest.mark.parametrize("length,h1,ratio,h_max,first,steps,count", CASES)
+def test_capped_progression(length, h1, ratio, h_max, first, steps, count):
     nodes = capped_nodes(length, h1, ratio, h_max)
     cells = np.diff(nodes)
     assert nodes[0] == 0.0 and nodes[-1] == length
-    assert np.all(cells > 0)
-    # geometric progression by definition: first cell h1, each next one ratio times larger,
-    # symmetric about the middle, never above about h_max
-    assert cells[0] == pytest.approx(h1, rel=1e-9) or cells[0] < h1
-    assert cells[-1] == pytest.approx(cells[0], rel=1e-9)
-    assert cells.max() <= 1.5 * h_max
-    if cells[0] == pytest.approx(h1, rel=1e-9):
-        assert cells[1] / cells[0] == pytest.approx(ratio, rel=1e-9)
+    assert len(cells) == count and np.all(cells > 0)
+    assert cells == pytest.approx(cells[::-1], rel=1e-9, abs=0)  # symmetric about the middle
+    assert cells[0] == pytest.approx(first, rel=1e-4, abs=0) and cells[0] <= h1 * (1 + 1e-12)
+    steps_from_wall = cells[1:] / cells[:-1]
+    # a geometric progression by definition: each cell ratio times its wall-side neighbour ...
+    assert steps_from_wall[:steps] == pytest.approx(np.full(steps, ratio), rel=1e-9, abs=0)
+    # ... and nowhere a faster growth, nor any cell above the cap
+    assert np.all(steps_from_wall <= ratio * (1 + 1e-9)) and np.all(1 / steps_from_wall <= ratio * (1 + 1e-9))
+    assert cells.max() <= h_max
 
 
 def test_uniform_when_not_graded():

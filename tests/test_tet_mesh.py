@@ -90,7 +90,8 @@ def test_every_boundary_facet_is_tagged_exactly_once():
 def test_building_in_millimetres_keeps_pipe_walls_on_the_exact_spiral():
     """OpenCASCADE tolerances are absolute (~1e-7 model units). Built in mm the spiral's
     outer wall nodes stay within 0.05 um of the exact offset curve r = r0 + c theta + w/2
-    (measured in the section frame); built in metres the probe in GMSH-NOTES saw ~20 um."""
+    (measured in the section frame, asserted below); an absolute tolerance of that size in
+    metres would be a large fraction of a micrometre-scale section."""
     d = small_design("spiral")
     mesh = mesh_tet(d)
     line = centerline_of(d)

@@ -21,7 +21,8 @@ NAMES = ["inlet", "outlet_1", "outlet_2", "wall", "fluid"]
 def built(tmp_path_factory):
     out = tmp_path_factory.mktemp("fmt")
     d = small_design("arc", outlets={"split": [0.5, 0.5]})
-    return build(d, out, formats=tuple(FORMATS))
+    # every file format; the OpenFOAM case needs [flow] and has its own tests (test_openfoam_*.py)
+    return build(d, out, formats=tuple(n for n, f in FORMATS.items() if f.source != "case"))
 
 
 def _counts_by_tag(mesh: meshio.Mesh, key: str) -> dict[int, int]:

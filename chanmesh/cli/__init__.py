@@ -4,6 +4,13 @@ discovered, so adding a command touches no other file.
 
 Only this module turns chanmesh's own errors into a one-line message and an exit code:
 2 for bad input (design, file, option), 130 for an interrupt.
+
+Start-up stays cheap: command modules import only the standard library and light chanmesh
+modules at import time, and the heavy libraries (numpy, gmsh, pyvista, matplotlib, dask, ...)
+inside ``run`` (tests/test_cli_startup.py checks it). An interrupt while the command line is
+read and the command module imported ends the process at once with one line and 130 (nothing
+has been written yet); once the command runs, it raises ``KeyboardInterrupt`` so that staged
+output is cleaned up, and ``main`` turns it into the same line and 130.
 """
 
 from __future__ import annotations
@@ -11,15 +18,17 @@ from __future__ import annotations
 import importlib
 import os
 import pkgutil
+import signal
 import sys
+import threading
 from types import ModuleType
 
 from chanmesh import __version__
 from chanmesh.cli.argtypes import OneLineParser
 from chanmesh.errors import ChanmeshError
+from chanmesh.interrupt import EXIT_INTERRUPT, quit_now
 
 EXIT_INPUT = 2
-EXIT_INTERRUPT = 130
 
 
 def _commands() -> list[ModuleType]:
@@ -46,8 +55,20 @@ def build_parser() -> OneLineParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
-    args = parser.parse_args(argv)
+    in_main_thread = threading.current_thread() is threading.main_thread()
+    previous = signal.signal(signal.SIGINT, quit_now) if in_main_thread else None
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+        if in_main_thread:
+            signal.signal(signal.SIGINT, signal.default_int_handler)  # the command cleans up
+        return _run(parser, args)
+    finally:
+        if in_main_thread:
+            signal.signal(signal.SIGINT, previous)
+
+
+def _run(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
     if not getattr(args, "_run", None):
         parser.print_help()
         return EXIT_INPUT

@@ -6,12 +6,13 @@ import argparse
 import dataclasses
 from pathlib import Path
 
-from chanmesh.build import build
-from chanmesh.design import Design, load_design
-from chanmesh.design.checks import check_design
-from chanmesh.progress import StageClock
+from typing import TYPE_CHECKING
+
 from chanmesh.units import parse_length
 from chanmesh.writers import DEFAULT_FORMATS, FORMATS, WriteOptions
+
+if TYPE_CHECKING:
+    from chanmesh.design import Design
 
 FABRICATION_LENGTHS = ("mould_margin", "base_thickness", "port_diameter")
 
@@ -44,6 +45,9 @@ def add_format_arguments(p: argparse.ArgumentParser) -> None:
     )
     p.add_argument("--msh-version", choices=("4.1", "2.2"), default="4.1", help="MSH file version (default 4.1)")
     p.add_argument("--binary", action="store_true", help="binary MSH instead of ASCII")
+    p.add_argument("--msh-no-sections", action="store_true",
+                   help="leave the internal section_k surfaces out of the MSH (OpenFOAM's gmshToFoam turns them into "
+                        "empty patches and warns about each; --format openfoam keeps them as face zones)")
     p.add_argument("--quiet", action="store_true", help="no progress lines")
     fab = p.add_argument_group("fabrication outputs (override the design's [fabrication] table)")
     fab.add_argument("--mould-margin", metavar="LENGTH", help="mould plate beyond the footprint, with unit (e.g. 2mm)")
@@ -54,6 +58,8 @@ def add_format_arguments(p: argparse.ArgumentParser) -> None:
 
 def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Design:
     """The design with any --mould-margin, --base-thickness, --port-diameter, --dxf-unit applied."""
+    from chanmesh.design.checks import check_design
+
     changes: dict[str, object] = {}
     for key in FABRICATION_LENGTHS:
         text = getattr(args, key, None)
@@ -69,10 +75,14 @@ def with_fabrication_overrides(design: Design, args: argparse.Namespace) -> Desi
 
 
 def write_options(args: argparse.Namespace) -> WriteOptions:
-    return WriteOptions(args.msh_version, args.binary)
+    return WriteOptions(args.msh_version, args.binary, not getattr(args, "msh_no_sections", False))
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.build import build
+    from chanmesh.design import load_design
+    from chanmesh.progress import StageClock
+
     design = with_fabrication_overrides(load_design(args.design), args)
     out = args.out or Path("out") / design.name
     clock = StageClock(quiet=args.quiet)

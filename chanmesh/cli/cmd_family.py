@@ -8,8 +8,7 @@ import sys
 from pathlib import Path
 
 from chanmesh.cli.cmd_build import add_format_arguments, write_options
-from chanmesh.design import load_design
-from chanmesh.family import MAX_LEVELS, RATIO_RANGE, build_family
+from chanmesh.family_limits import MAX_LEVELS, RATIO_RANGE
 from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "family"
@@ -27,6 +26,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design import load_design
+    from chanmesh.family import build_family
+
     design = load_design(args.design)
     out = args.out or Path("out") / f"{design.name}-family"
     result = build_family(design, out, args.levels, args.ratio, args.format, write_options(args), quiet=args.quiet)

@@ -8,9 +8,6 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from chanmesh.post.gci import gci_study
-from chanmesh.post.gci_io import format_report, write_report
-from chanmesh.post.gci_table import load_study
 from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "gci"
@@ -33,6 +30,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from chanmesh.errors import StudyError
+    from chanmesh.post.gci import gci_study
+    from chanmesh.post.gci_io import format_report, write_report
+    from chanmesh.post.gci_table import load_study
 
     if args.area is not None and args.dim != 2:
         raise StudyError("--area", args.area, "applies to a planar study only: add --dim 2, or give --volume")

@@ -7,9 +7,7 @@ import argparse
 import dataclasses
 from typing import Any
 
-from chanmesh.design.load import load_design
 from chanmesh.errors import DesignError
-from chanmesh.numbers import design_numbers, render, write_json
 from chanmesh.units import parse_flow_rate, parse_length, parse_temperature, parse_velocity, split_quantity
 from chanmesh.cli.argtypes import finite_float
 
@@ -38,6 +36,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--biological", action=argparse.BooleanOptionalAction, default=None,
                         help="the fluid is a biological sample (default: guessed from the fluid name)")
     parser.add_argument("--json", metavar="PATH", help="also write the numbers as JSON (SI units) to PATH")
+    parser.add_argument("--section-flow", action=argparse.BooleanOptionalAction, default=True,
+                        help="solve the fully developed section flow at the first Dean station (about 1 s; default on)")
 
 
 def _with_unit(key: str, text: str, table: dict[str, float], example: str) -> float:
@@ -81,9 +81,16 @@ def overrides(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import load_design
+    from chanmesh.numbers import design_numbers, render, write_json
+
     design = load_design(args.design)
     flow = dataclasses.replace(design.flow, **overrides(args))
     numbers = design_numbers(design, flow)
+    if args.section_flow:
+        from chanmesh.numbers.section_flow import section_flow_numbers
+
+        numbers["section_flow"] = section_flow_numbers(design, flow)
     print(render(numbers), end="")
     if args.json:
         path = write_json(numbers, args.json)

@@ -12,14 +12,9 @@ import argparse
 import re
 from pathlib import Path
 
-from chanmesh.build import check_estimate
-from chanmesh.design import load_design
 from chanmesh.errors import DesignError
-from chanmesh.meshing.registry import mesher_for
-from chanmesh.meshing.verify import check_boundary_tagging
-from chanmesh.report.plan_view import plan_picture
-from chanmesh.report.view3d import ENGINES, mesh_picture
-from chanmesh.safeio import atomic_write_bytes
+
+ENGINES = ("auto", "vtk", "mpl")  # report.view3d.ENGINES, repeated so that --help imports no renderer
 
 NAME = "preview"
 HELP = "draw a design: plan view to scale and the mesh in 3D, as PNG pictures"
@@ -49,6 +44,14 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.build import check_estimate
+    from chanmesh.design import load_design
+    from chanmesh.meshing.registry import mesher_for
+    from chanmesh.meshing.verify import check_boundary_tagging
+    from chanmesh.report.plan_view import plan_picture
+    from chanmesh.report.view3d import mesh_picture
+    from chanmesh.safeio import atomic_write_bytes
+
     design = load_design(args.design)
     width, height = size_arg(args.size)
     out = args.out or Path("out") / design.name

@@ -8,17 +8,14 @@ import dataclasses
 import json
 import math
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from chanmesh.design.load import load_design
 from chanmesh.design.model import Design, FlowSpec
 from chanmesh.errors import DesignError
-from chanmesh.geometry.centerline import centerline_of
-from chanmesh.numbers import design_numbers
-from chanmesh.numbers.regime import DEAN_DEFINITION, dean_number
-from chanmesh.geometry.stations import StationFrame, station_frame
-from chanmesh.safeio import atomic_write_text
 from chanmesh.units import parse_flow_rate, parse_velocity
+
+if TYPE_CHECKING:
+    from chanmesh.geometry.stations import StationFrame
 
 NAME = "stations"
 HELP = "list the centreline point, tangent and section frame (and Dean number) at stations"
@@ -46,6 +43,9 @@ def _flow(design: Design, args: argparse.Namespace) -> FlowSpec:
 
 def dean_numbers(design: Design, flow: FlowSpec, frames: list[StationFrame]) -> list[float | None] | None:
     """De = Re sqrt(D_h / (2 R)) at each station (None on straights); None without a flow."""
+    from chanmesh.numbers import design_numbers
+    from chanmesh.numbers.regime import dean_number
+
     if flow.rate is None and flow.velocity is None:
         return None
     numbers = design_numbers(design, flow)
@@ -59,6 +59,12 @@ def _vec(v: Any) -> str:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import load_design
+    from chanmesh.geometry.centerline import centerline_of
+    from chanmesh.numbers.regime import DEAN_DEFINITION
+    from chanmesh.geometry.stations import station_frame
+    from chanmesh.safeio import atomic_write_text
+
     design = load_design(args.design)
     line = centerline_of(design)
     if args.at:

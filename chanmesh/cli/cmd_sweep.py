@@ -8,11 +8,8 @@ import signal
 from pathlib import Path
 
 from chanmesh.cli.cmd_build import add_format_arguments, write_options
-from chanmesh.design.load import design_from_dict, read_design_data
 from chanmesh.errors import DesignError
-from chanmesh.family import MAX_LEVELS
-from chanmesh.sweep.plan import apply, combine, parse_vary
-from chanmesh.sweep.run import SweepRequest, run_sweep
+from chanmesh.family_limits import MAX_LEVELS
 from chanmesh.cli.argtypes import finite_float, whole_number
 
 NAME = "sweep"
@@ -23,7 +20,7 @@ ORDER = 70
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("design", type=Path, help="design file (TOML); --vary values are in its unit")
     p.add_argument("--vary", action="append", default=[], metavar="KEY=SPEC",
-                   help="a design key and its values: a:b:n (n values from a to b) or v1,v2,... (repeatable)")
+                   help="a design key (list items by index: path.segments[1].arc) and its values: a:b:n (n values from a to b) or v1,v2,... (repeatable)")
     p.add_argument("--zip", action="store_true", help="pair the --vary lists element by element instead of the product")
     p.add_argument("--family", type=whole_number, default=0, metavar="N", help=f"build a mesh family of N levels (2-{MAX_LEVELS}) per variant")
     p.add_argument("--ratio", type=finite_float, default=1.5, help="family refinement ratio (default 1.5)")
@@ -38,6 +35,10 @@ def _terminate_as_interrupt(signum: int, frame: object) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from chanmesh.design.load import design_from_dict, read_design_data
+    from chanmesh.sweep.plan import apply, combine, parse_vary
+    from chanmesh.sweep.run import SweepRequest, run_sweep
+
     data = read_design_data(args.design)
     base = design_from_dict(data)  # the design itself must be valid before it is varied
     if not args.vary:

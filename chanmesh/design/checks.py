@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import math
 import re
+from typing import TYPE_CHECKING
 
 from chanmesh.design.model import (
     ArcPath,
@@ -20,6 +21,9 @@ from chanmesh.design.model import (
     StraightPath,
 )
 from chanmesh.errors import DesignError, Shown
+
+if TYPE_CHECKING:
+    from chanmesh.geometry.centerline import Centerline
 
 MIN_WALL = 0.05
 """Smallest solid wall between neighbouring channel runs, as a fraction of the width
@@ -57,6 +61,8 @@ def check_design(design: Design) -> None:
     _check_section(design)
     _check_path(design)
     _check_outlets(design)
+    _check_small_features(design)
+    _check_clearance(design)
     _check_mesh(design)
     _check_fabrication(design)
 
@@ -127,11 +133,6 @@ def _check_path(design: Design) -> None:
             )
 
 
-CLEARANCE_SLACK = 0.01
-"""The sampled clearance test of ``segments`` paths passes runs down to 1 % under the required
-distance (sampling and the slight tilt of neighbouring spiral turns; common practice, no source)."""
-
-
 def _check_pieces(design: Design, path: SegmentsPath) -> None:
     """Each piece by the family rules it shares (bend radius, spiral pitch), then the whole
     path: no run may come closer to another than the width plus a wall of MIN_WALL, or cross it."""
@@ -154,38 +155,126 @@ def _check_pieces(design: Design, path: SegmentsPath) -> None:
                                   "so that neighbouring turns do not touch")
             if not 0 < abs(piece.turns) <= 50:
                 raise DesignError(f"{key}.turns", Shown(f"{piece.turns:g}"), "must be non-zero and lie in [-50, 50] (> 0 turns left)")
-    _check_clearance(design, path)
 
 
-def _check_clearance(design: Design, path: SegmentsPath) -> None:
+MIN_FEATURE = 0.01
+"""Smallest length chanmesh builds, as a fraction of the section width: every piece of the
+centreline (a lead, a bend's arc, a spiral, a straight), a chamber or throat, a chamber's step
+beyond the channel wall and each part of a split inlet or outlet. Anything shorter lies near
+the geometry kernel's tolerance and meshes into nothing (common practice, no source)."""
+
+MAX_WIDTHS_LONG = 50_000
+"""Longest centreline, in section widths (a 10 cm channel 2 um wide); the wall test samples
+every width / 8, so a bound keeps it to seconds."""
+
+CLEARANCE_SLACK = 0.01
+"""The wall test refuses walls of different runs nearer than MIN_WALL - 1 % of the width
+(sampling; common practice, no source). A spiral at its least pitch passes only with an inner
+radius of about 0.85 widths or more: its turns are tilted, so near a tight centre its walls
+come nearer the next turn than the pitch says (measured with the wall polylines: 3.0 % of the
+width left at inner radius 0.5 w, 3.5 % at 0.6 w, 3.9 % at 0.8 w, 4.3 % at w, 4.7 % at 2 w)."""
+
+
+def run_key(design: Design, line: "Centerline", segment: int) -> str:
+    """The design key that makes centreline segment ``segment``: a lead's length, the family's
+    extent (``path.angle``, ``path.turns``, ``path.straight`` ...) or ``path.segments[k]``."""
+    path = design.path
+    if line.kinds[segment] == "lead":
+        return "path.inlet_length" if segment == 0 else "path.outlet_length"
+    k = segment - (1 if line.kinds[0] == "lead" else 0)
+    if isinstance(path, SegmentsPath):
+        return f"path.segments[{k}]"
+    if isinstance(path, ArcPath):
+        return "path.angle"
+    if isinstance(path, SpiralPath):
+        return "path.turns"
+    if isinstance(path, SerpentinePath):
+        return "path.straight" if line.kinds[segment] == "straight" else "path.radius"
+    if isinstance(path, StraightPath):
+        return "path.length"
+    return "path.throat_length"
+
+
+def _shown(design: Design, key: str) -> Shown:
+    """The value of ``key`` as the design gives it (lengths in the design's unit)."""
+    path = design.path
+    if key.startswith("path.segments["):
+        k = int(key[len("path.segments["):].split("]")[0])
+        piece = path.segments[k]  # type: ignore[union-attr]
+        if isinstance(piece, LinePiece):
+            return Shown(f"{{line = {piece.length / design.scale:.6g}}}")
+        if isinstance(piece, ArcPiece):
+            return Shown(f"{{arc = {piece.radius / design.scale:.6g}, angle = {piece.angle:g}}}")
+        return Shown(f"{{spiral = {piece.radius / design.scale:.6g}, pitch = {piece.pitch / design.scale:.6g}, turns = {piece.turns:g}}}")
+    value = getattr(path, key.split(".", 1)[1])
+    if key == "path.angle":
+        return Shown(f"{value:g} deg")
+    if key == "path.turns":
+        return Shown(f"{value:g}")
+    return _fmt(design, value)
+
+
+def _check_small_features(design: Design) -> None:
+    """Every piece of the centreline, chamber, throat, chamber step and split part at least
+    MIN_FEATURE of the width long (leads may be 0: no lead)."""
     from chanmesh.geometry.centerline import centerline_of
-    from chanmesh.geometry.clearance import close_runs
 
     w = design.section.width
-    need = w * (1 + MIN_WALL)
+    least = MIN_FEATURE * w * (1 - 1e-9)  # round-off: exactly 1 % passes
+    hint = f"at least {_fmt(design, least)} ({MIN_FEATURE:.0%} of the section width)"
     line = centerline_of(design)
-    hit = close_runs(line, need * (1 - CLEARANCE_SLACK), w / 8)
+    if line.length > MAX_WIDTHS_LONG * w:
+        key = run_key(design, line, len(line.segments) - 1 - (1 if line.kinds[-1] == "lead" and len(line.segments) > 1 else 0))
+        raise DesignError(key, _shown(design, key), f"makes a centreline {_fmt(design, line.length)} long; it may be at most "
+                          f"{MAX_WIDTHS_LONG:,} section widths ({_fmt(design, MAX_WIDTHS_LONG * w)})")
+    for i, seg in enumerate(line.segments):
+        if seg.length < least:
+            key = run_key(design, line, i)
+            what = "must be 0 (no lead) or " if line.kinds[i] == "lead" else "makes a piece of channel "
+            extra = "" if line.kinds[i] == "lead" else f"{_fmt(design, seg.length)} long; it must be "
+            raise DesignError(key, _shown(design, key), f"{what}{extra}{hint}: shorter pieces lie near the "
+                              "geometry kernel's tolerance and mesh into nothing")
+    path = design.path
+    if isinstance(path, ChambersPath):
+        for key in ("path.chamber_length", "path.throat_length"):
+            if getattr(path, key.split(".")[1]) < least:
+                raise DesignError(key, _shown(design, key), f"must be {hint}")
+        step = path.chamber_width - w if path.one_sided else 0.5 * (path.chamber_width - w)
+        if step < least:
+            need = w + (least if path.one_sided else 2 * least)
+            raise DesignError("path.chamber_width", _fmt(design, path.chamber_width),
+                              f"must be at least {_fmt(design, need)}: each chamber wall must stand {hint} beyond the channel wall")
+    for key, split in (("inlets.split", design.inlets.split), ("outlets.split", design.outlets.split)):
+        for i, f in enumerate(split):
+            if f < MIN_FEATURE:
+                raise DesignError(f"{key}[{i}]", f, f"must be at least {MIN_FEATURE:g}: each part of a split face must "
+                                  f"be at least {MIN_FEATURE:.0%} of the section width")
+
+
+def _check_clearance(design: Design) -> None:
+    """The channel must not touch itself: walls of different runs (leads and every piece
+    included) at least MIN_WALL of the width apart, the rule the spiral pitch and serpentine
+    radius checks apply to their neighbouring runs. Generic: it works on the centreline and
+    its sections, whatever family or pieces made them."""
+    from chanmesh.geometry.centerline import centerline_of
+    from chanmesh.geometry.clearance import wall_contact
+
+    w = design.section.width
+    gap = MIN_WALL * w
+    line = centerline_of(design)
+    hit = wall_contact(line, w, gap - CLEARANCE_SLACK * w)
     if hit is None:
         return
-    lead = 1 if path.inlet_length > 0 else 0
-
-    def name(seg: int) -> str:
-        k = seg - lead
-        if k < 0:
-            return "path.inlet_length"
-        if k >= len(path.segments):
-            return "path.outlet_length"
-        return f"path.segments[{k}]"
-
-    first, second = name(hit.segment1), name(hit.segment2)
-    gap = Shown(f"{hit.distance / design.scale:.3g} {design.unit}")
+    first, second = run_key(design, line, hit.segment1), run_key(design, line, hit.segment2)
+    key, other = (first, second) if first.endswith("_length") and not second.endswith("_length") else (second, first)
+    where = f"{hit.s1 / design.scale:.6g} and {hit.s2 / design.scale:.6g} {design.unit} along the centreline"
+    touch = "cross" if hit.distance == 0 else f"come within {_fmt(design, hit.distance)} of"
+    whose = "its own run" if key == other else f"the run of {other}"
     raise DesignError(
-        second,
-        Shown(f"(a run at {hit.s2 / design.scale:.6g} {design.unit} along the path)"),
-        f"comes within {gap} (centre to centre) of {'itself' if first == second else first} "
-        f"at {hit.s1 / design.scale:.6g} {design.unit}; runs must stay at least {_fmt(design, need)} apart "
-        f"(the width plus a wall of {MIN_WALL:.0%} of it) and must not cross: lengthen the straights, "
-        "open the bends or turn the other way",
+        key, _shown(design, key),
+        f"the channel runs into itself: its walls {touch} {whose} (at {where}); walls of different runs must "
+        f"stay at least {_fmt(design, gap)} apart ({MIN_WALL:.0%} of the width) and must not cross: shorten the "
+        "leads, open the bends or turn the other way",
     )
 
 

@@ -20,6 +20,9 @@ from chanmesh.sizing import graded_nodes
 
 DEFAULT_CELLS_LONG = 20
 DEFAULT_CELLS_SHORT = 10
+DEFAULT_CELLS_COMPACT = 16
+"""... and along each side of a compact section (shorter side at least half the longer), which
+would otherwise get 20 x 20 and a solve several times slower."""
 """Default quadrilaterals along the longer and (at least) along the shorter side of the section
 for the reference grid (each split into two triangles for P2-P1): one station then solves in
 under 2 s here (bench/dean_speed.py)."""
@@ -107,8 +110,9 @@ def default_grid(section: Any, cells_across: int | None = None, cells_high: int 
     w, H = shape.width, shape.mean_height
     if cells_across is None and cells_high is None:
         long_side, short_side = max(w, H), min(w, H)
-        n_short = max(DEFAULT_CELLS_SHORT, int(round(DEFAULT_CELLS_LONG * short_side / long_side)))
-        cells_across, cells_high = (DEFAULT_CELLS_LONG, n_short) if w >= H else (n_short, DEFAULT_CELLS_LONG)
+        n_long = DEFAULT_CELLS_LONG if short_side < 0.5 * long_side else DEFAULT_CELLS_COMPACT
+        n_short = max(DEFAULT_CELLS_SHORT, int(round(n_long * short_side / long_side)))
+        cells_across, cells_high = (n_long, n_short) if w >= H else (n_short, n_long)
     elif cells_across is None:
         cells_across = max(4, int(round(cells_high * w / H)))  # type: ignore[operator]
     elif cells_high is None:

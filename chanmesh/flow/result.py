@@ -164,7 +164,7 @@ def find_vortices(points: np.ndarray, triangles: np.ndarray, psi: np.ndarray, bo
         for i, pers in _peaks(sign * psi, nb, on_wall):
             if pers <= PERSISTENCE * top or abs(psi[i]) <= VORTEX_FLOOR * top:
                 continue
-            cu, cz = _refine(points, psi, i, nb)
+            cu, cz = refine_extremum(points, psi, i, nb)
             out.append({"centre_u_m": cu, "centre_z_m": cz, "sense": sense, "strength_m2_s": abs(float(psi[i])),
                         "psi_m2_s": float(psi[i])})
     out.sort(key=lambda v: -v["centre_z_m"])
@@ -209,7 +209,7 @@ def _peaks(f: np.ndarray, nb: list[np.ndarray], on_wall: np.ndarray) -> list[tup
     return out
 
 
-def _refine(points: np.ndarray, psi: np.ndarray, i: int, nb: list[np.ndarray]) -> tuple[float, float]:
+def refine_extremum(points: np.ndarray, psi: np.ndarray, i: int, nb: list[np.ndarray]) -> tuple[float, float]:
     """Stationary point of a least-squares quadratic through node ``i`` and its two rings."""
     ring = np.unique(np.concatenate([nb[i]] + [nb[j] for j in nb[i]]))
     x = points[ring] - points[i]

@@ -211,6 +211,17 @@ class Centerline:
     def turning(self) -> float:
         return float(sum(seg.turning for seg in self.segments))
 
+    def samples(self, spacing: float) -> np.ndarray:
+        """Arc lengths every ``spacing`` or closer, keeping every segment join (curved segments
+        get at least 16 intervals): for outlines, size grids and clearance tests."""
+        out = [np.array([0.0])]
+        for seg, s0 in zip(self.segments, self.breaks[:-1]):
+            k = max(1, int(math.ceil(seg.length / spacing)))
+            if isinstance(seg, (Arc, Spiral)):
+                k = max(k, 16)
+            out.append(s0 + np.linspace(0.0, seg.length, k + 1)[1:])
+        return np.concatenate(out)
+
     def _locate(self, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         s = np.clip(np.atleast_1d(np.asarray(s, dtype=float)), 0.0, self.length)
         b = self.breaks

@@ -1,27 +1,30 @@
-"""Where a centreline comes back close to itself: the wall-clearance and self-crossing test of
-paths made of pieces, whose layout no per-family rule can foresee.
+"""Where a channel comes back close to itself: the wall-clearance and self-crossing test of
+every path (leads and pieces of any family), whose layout no per-family rule can foresee.
 
-Two centreline points closer than ``min_distance`` count as *different runs* only if the path
-between them leaves the ball of that radius around the first point and comes back: points on
-one bend or one straight never do (a convex curve turning by at most 180 degrees moves steadily
-away from its start), while neighbouring runs of a serpentine or two crossing pieces always do.
-Sampled every ``width / 8``; the figures are exact to well under 1 % of the width.
+The plan outline is the union of the section lines (wall to wall across the channel, seen from
+above) along the centreline. Two sections count as *different runs* only if the centreline
+between them leaves the ball of radius width + gap around the first and comes back: sections of
+one bend or one straight never do (however tight the bend, its sections stay within one width
+of each other until they have moved on), while neighbouring runs of a serpentine, a lead that
+runs into the channel or two crossing pieces always do. Sections of different runs must stay at
+least ``gap`` apart (0 where they cross). Sampled every ``width / 8``; the distances are exact
+to well under 1 % of the width.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 from scipy.spatial import cKDTree
 
-from chanmesh.geometry.centerline import Arc, Centerline, Spiral
+from chanmesh.geometry.centerline import Centerline
 
 
 @dataclass(frozen=True)
-class CloseRuns:
-    """The closest return of the path to itself: arc lengths, segment indices and distance (m)."""
+class WallContact:
+    """Two sections of different runs whose walls come closer than allowed: arc lengths (m),
+    segment indices and the plan distance between the two section lines (m; 0 if they cross)."""
 
     s1: float
     s2: float
@@ -30,35 +33,82 @@ class CloseRuns:
     distance: float
 
 
-def sample_arc_lengths(line: Centerline, spacing: float) -> np.ndarray:
-    """Arc lengths every ``spacing`` or closer, keeping every segment join (curved pieces get at
-    least 16 intervals)."""
-    out = [np.array([0.0])]
-    for seg, s0 in zip(line.segments, line.breaks[:-1]):
-        k = max(1, int(math.ceil(seg.length / spacing)))
-        if isinstance(seg, (Arc, Spiral)):
-            k = max(k, 16)
-        out.append(s0 + np.linspace(0.0, seg.length, k + 1)[1:])
-    return np.concatenate(out)
+MAX_SAMPLES = 400_000
+"""Most centreline samples the wall test takes (the design checks keep paths within 50,000
+widths, which is this at width / 8)."""
 
 
-def close_runs(line: Centerline, min_distance: float, spacing: float) -> CloseRuns | None:
-    """The closest pair of points on different runs nearer than ``min_distance``, or None."""
-    s = sample_arc_lengths(line, spacing)
+def _cross(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    return u[..., 0] * v[..., 1] - u[..., 1] * v[..., 0]
+
+
+def _point_to_segment(p: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    ab = b - a
+    t = np.clip(np.sum((p - a) * ab, axis=-1) / np.maximum(np.sum(ab * ab, axis=-1), 1e-300), 0.0, 1.0)
+    return np.linalg.norm(p - (a + t[..., None] * ab), axis=-1)
+
+
+def segment_distances(a1: np.ndarray, b1: np.ndarray, a2: np.ndarray, b2: np.ndarray) -> np.ndarray:
+    """Plan distance between segments a1-b1 and a2-b2, element by element (0 where they cross)."""
+    d1, d2 = b1 - a1, b2 - a2
+    crossing = (_cross(d1, a2 - a1) * _cross(d1, b2 - a1) < 0) & (_cross(d2, a1 - a2) * _cross(d2, b1 - a2) < 0)
+    d = np.minimum(np.minimum(_point_to_segment(a1, a2, b2), _point_to_segment(b1, a2, b2)),
+                   np.minimum(_point_to_segment(a2, a1, b1), _point_to_segment(b2, a1, b1)))
+    return np.where(crossing, 0.0, d)
+
+
+def _edge_distances(walls: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Distance between the wall edges at wall points ``a`` and ``b`` (the edges before and
+    after each point on its own wall; 0 where they cross), element by element. ``walls`` is
+    (2, n, 2): the u = -w/2 and u = +w/2 walls; a point index is side * n + k."""
+    n = walls.shape[1]
+    if len(a) == 0:
+        return np.zeros(0)
+
+    def edges(q: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        side, k = np.divmod(q, n)
+        lo, hi = np.maximum(k - 1, 0), np.minimum(k + 1, n - 1)
+        start = np.stack([walls[side, lo], walls[side, k]], axis=1)  # (m, 2, 2)
+        end = np.stack([walls[side, k], walls[side, hi]], axis=1)
+        return start, end
+
+    a1, b1 = edges(a)
+    a2, b2 = edges(b)
+    d = segment_distances(a1[:, :, None], b1[:, :, None], a2[:, None, :], b2[:, None, :])  # (m, 2, 2)
+    return d.reshape(len(a), -1).min(axis=1)
+
+
+def wall_contact(line: Centerline, width: float, gap: float) -> WallContact | None:
+    """The closest place where the walls of two different runs come within ``gap`` of each
+    other (0 where they cross); None if there is none: the plan outline is a simple polygon with
+    clearance ``gap``. Walls are polylines through points every width / 8 of centreline (leads,
+    ports and every piece of the path included)."""
+    spacing = max(width / 8, line.length / MAX_SAMPLES)
+    s = line.samples(spacing)
+    n_s = len(s)
     p = line.points(s)[:, :2]
-    pairs = cKDTree(p).query_pairs(min_distance, output_type="ndarray")
+    normal = line.normals(s)[:, :2]
+    walls = np.stack([p - 0.5 * width * normal, p + 0.5 * width * normal])  # (2, n, 2)
+    # wall points within gap of another wall edge lie within gap + one edge of its points
+    edge = float(np.max(np.linalg.norm(np.diff(walls, axis=1), axis=2)))
+    pairs = cKDTree(walls.reshape(-1, 2)).query_pairs(gap + edge, output_type="ndarray")
     if len(pairs) == 0:
         return None
-    i, j = pairs.min(axis=1), pairs.max(axis=1)
-    keep = s[j] - s[i] > min_distance  # closer along the path than across: same run
-    i, j = i[keep], j[keep]
-    d = np.linalg.norm(p[i] - p[j], axis=1)
-    worst: CloseRuns | None = None
-    for a, b, dist in sorted(zip(i, j, d), key=lambda t: t[2]):
-        if worst is not None and dist >= worst.distance:
-            break
-        away = np.linalg.norm(p[a + 1 : b] - p[a], axis=1)
-        if away.size and float(away.max()) > min_distance:
-            seg = np.clip(np.searchsorted(line.breaks, s[[a, b]], side="right") - 1, 0, len(line.segments) - 1)
-            worst = CloseRuns(float(s[a]), float(s[b]), int(seg[0]), int(seg[1]), float(dist))
-    return worst
+    a, b = pairs[:, 0], pairs[:, 1]
+    i, j = a % n_s, b % n_s
+    swap = i > j
+    a, b = np.where(swap, b, a), np.where(swap, a, b)
+    i, j = np.minimum(i, j), np.maximum(i, j)
+    reach = width + gap + spacing
+    keep = s[j] - s[i] > reach  # a run that leaves the ball of radius reach and comes back is longer
+    a, b, i, j = a[keep], b[keep], i[keep], j[keep]
+    d = _edge_distances(walls, a, b)
+    close = d < gap
+    i, j, d = i[close], j[close], d[close]
+    for k in np.argsort(d, kind="stable"):
+        first, second = int(i[k]), int(j[k])
+        away = np.linalg.norm(p[first + 1 : second] - p[first], axis=1)
+        if away.size and float(away.max()) > reach:  # the path went away and came back: another run
+            seg = np.clip(np.searchsorted(line.breaks, s[[first, second]], side="right") - 1, 0, len(line.segments) - 1)
+            return WallContact(float(s[first]), float(s[second]), int(seg[0]), int(seg[1]), float(d[k]))
+    return None

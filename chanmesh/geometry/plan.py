@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.design.model import ChambersPath, Design
-from chanmesh.geometry.centerline import Arc, Spiral, centerline_of
+from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
 
 
@@ -30,14 +30,7 @@ class PlanOutline:
 
 def centerline_samples(design: Design, spacing: float) -> np.ndarray:
     """Arc lengths along the centreline at about ``spacing``, keeping every segment join."""
-    line = centerline_of(design)
-    out = [np.array([0.0])]
-    for seg, s0 in zip(line.segments, line.breaks[:-1]):
-        k = max(1, int(math.ceil(seg.length / spacing)))
-        if isinstance(seg, (Arc, Spiral)):
-            k = max(k, 16)
-        out.append(s0 + np.linspace(0.0, seg.length, k + 1)[1:])
-    return np.concatenate(out)
+    return centerline_of(design).samples(spacing)
 
 
 def plan_outline(design: Design, spacing: float | None = None) -> PlanOutline:

@@ -31,7 +31,7 @@ class Mesher:
 
 
 MESHERS: dict[str, Mesher] = {
-    "tet": Mesher("tet", "chanmesh.meshing.tet", "mesh_tet", "estimate_tet_cells"),
+    "tet": Mesher("tet", "chanmesh.meshing.tet_process", "mesh_tet_isolated", "estimate_tet_cells"),  # gmsh in a child
     "hex": Mesher("hex", "chanmesh.meshing.hex", "mesh_hex", "estimate_hex_cells"),
 }
 

@@ -4,19 +4,19 @@ Boundary facets are the faces of volume cells that belong to one cell only. A me
 boundary facet has no group (a solver would not know its condition) or two groups, or in which
 a tagged facet is not on the boundary, is refused. Internal surfaces (groups named
 ``section_*``) are the exception: they lie inside by design.
+
+The check runs in linear time on the face pairing of ``faces.face_table`` (shared with the
+quality figures); ``face_use_counts`` is the plain sorting reference the tests compare it with.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from chanmesh.meshing.faces import FACES, face_table
 from chanmesh.meshing.model import ChannelMesh
+from chanmesh.post.facepairs import pair_faces
 
-FACES = {
-    "tetra": ([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]], []),
-    "hexahedron": ([], [[0, 3, 2, 1], [4, 5, 6, 7], [0, 1, 5, 4], [1, 2, 6, 5], [2, 3, 7, 6], [3, 0, 4, 7]]),
-    "wedge": ([[0, 2, 1], [3, 4, 5]], [[0, 1, 4, 3], [1, 2, 5, 4], [2, 0, 3, 5]]),
-}
 
 INTERNAL_PREFIX = "section_"
 
@@ -48,32 +48,42 @@ def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:
     Returns counts: boundary facets, tagged facets, interior faces, non-manifold faces (used by
     more than two cells, always zero for a valid mesh).
     """
-    internal = {g.tag for g in mesh.groups if g.dim == 2 and g.name.startswith(INTERNAL_PREFIX)}
+    internal = [g.tag for g in mesh.groups if g.dim == 2 and g.name.startswith(INTERNAL_PREFIX)]
     counts = {"boundary_facets": 0, "interior_faces": 0}
-    uses = face_use_counts(mesh)
-    for size, (faces, n) in uses.items():
-        if np.any(n > 2):
-            raise MeshCheckError(f"{int(np.sum(n > 2))} faces are shared by more than two cells")
-        boundary = faces[n == 1]
-        counts["boundary_facets"] += len(boundary)
-        counts["interior_faces"] += int(np.sum(n == 2))
+    for size in (3, 4):
         ftype = "triangle" if size == 3 else "quad"
-        tagged = [np.sort(b.cells[~np.isin(b.tags, list(internal))], axis=1) for b in mesh.facets if b.type == ftype]
-        tagged_all = np.concatenate(tagged) if tagged else np.zeros((0, size), np.int64)
-        uniq, tcount = np.unique(tagged_all, axis=0, return_counts=True)
-        if np.any(tcount > 1):
-            raise MeshCheckError(f"{int(np.sum(tcount > 1))} boundary {ftype}s carry more than one group")
-        both = _row_intersection(boundary, uniq)
-        if both != len(boundary):
-            raise MeshCheckError(f"{len(boundary) - both} boundary {ftype}s carry no group")
-        if both != len(uniq):
-            raise MeshCheckError(f"{len(uniq) - both} tagged {ftype}s are not on the boundary")
+        tagged_blocks = [b.cells[~np.isin(b.tags, internal)] for b in mesh.facets if b.type == ftype]
+        tagged = np.concatenate(tagged_blocks) if tagged_blocks else np.zeros((0, size), np.int64)
+        try:
+            table = face_table(mesh, size)
+        except ValueError:
+            uses = face_use_counts(mesh)[size][1]
+            raise MeshCheckError(f"{int(np.sum(uses > 2))} faces are shared by more than two cells") from None
+        if table is None:
+            boundary = np.zeros((0, size), np.int64)
+        else:
+            bslots = np.flatnonzero(table.partner < 0)
+            boundary = table.nodes(bslots)
+            counts["interior_faces"] += int((len(table.partner) - len(bslots)) // 2)
+        counts["boundary_facets"] += len(boundary)
+        _match(boundary, tagged, ftype)
     return counts
 
 
-def _row_intersection(a: np.ndarray, b: np.ndarray) -> int:
-    if len(a) == 0 or len(b) == 0:
-        return 0
-    rows = np.concatenate([np.unique(a, axis=0), np.unique(b, axis=0)])
-    _, n = np.unique(rows, axis=0, return_counts=True)
-    return int(np.sum(n == 2))
+def _match(boundary: np.ndarray, tagged: np.ndarray, ftype: str) -> None:
+    """Each boundary face equals exactly one tagged facet and each tagged facet one boundary face."""
+    nb = len(boundary)
+    try:
+        partner = pair_faces(np.concatenate([boundary, tagged]))
+    except ValueError:  # the same face three times: a boundary face tagged twice
+        uniq, tcount = np.unique(np.sort(tagged, axis=1), axis=0, return_counts=True)
+        raise MeshCheckError(f"{int(np.sum(tcount > 1))} boundary {ftype}s carry more than one group") from None
+    twice = int(np.sum(partner[nb:] >= nb))  # tagged facets paired with each other
+    if twice:
+        raise MeshCheckError(f"{twice // 2} boundary {ftype}s carry more than one group")
+    untagged = int(np.sum(partner[:nb] < 0))
+    if untagged:
+        raise MeshCheckError(f"{untagged} boundary {ftype}s carry no group")
+    stray = int(np.sum(partner[nb:] < 0))
+    if stray:
+        raise MeshCheckError(f"{stray} tagged {ftype}s are not on the boundary")

@@ -83,3 +83,29 @@ def entrance_length(reynolds: float, hydraulic_diameter: float) -> float:
     of order D_h at the low Reynolds numbers of microchannels where L_e = 0.05 Re D_h does not.
     """
     return hydraulic_diameter * (0.60 / (1.0 + 0.035 * reynolds) + 0.056 * reynolds)
+
+
+def velocity_over_mean(y: np.ndarray, z: np.ndarray, width: float, height: float) -> np.ndarray:
+    """Fully developed axial velocity over its mean, u(y, z) / U, in a width x height rectangle
+    centred at y = z = 0 (y across the width, z across the height; m); 0 on the walls.
+
+    The Fourier series of White, Viscous Fluid Flow (2006), eq. 3-48, for -a <= y' <= a,
+    -b <= z' <= b with a the shorter half side:
+    u = 16 a^2 G / (mu pi^3) sum_{n odd} (-1)^((n-1)/2) [1 - cosh(n pi z' / 2a) / cosh(n pi b / 2a)]
+    cos(n pi y' / 2a) / n^3, divided by the mean a^2 G S / (3 mu) (S as in ``fanning_fre_series``).
+    """
+    y = np.asarray(y, dtype=float)
+    z = np.asarray(z, dtype=float)
+    if width <= height:  # y' along the shorter side
+        a, b, ys, zs = width / 2.0, height / 2.0, y, z
+    else:
+        a, b, ys, zs = height / 2.0, width / 2.0, z, y
+    alpha = a / b
+    k = _ODD[:, None] * math.pi / (2.0 * a)
+    zabs = np.minimum(np.abs(zs), b).ravel()[None, :]
+    # cosh(k z) / cosh(k b) without overflow: exp(k (|z| - b)) (1 + e^{-2 k |z|}) / (1 + e^{-2 k b})
+    ratio = np.exp(k * (zabs - b)) * (1.0 + np.exp(-2.0 * k * zabs)) / (1.0 + np.exp(-2.0 * k * b))
+    sign = np.where(((_ODD - 1) / 2) % 2 == 0, 1.0, -1.0)[:, None]
+    terms = sign / _ODD[:, None] ** 3 * (1.0 - ratio) * np.cos(k * ys.ravel()[None, :])
+    u = 48.0 / (math.pi**3 * _tanh_sum(alpha)) * terms.sum(axis=0)
+    return np.clip(u, 0.0, None).reshape(np.broadcast(y, z).shape)

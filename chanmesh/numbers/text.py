@@ -56,6 +56,19 @@ def render(numbers: dict[str, Any]) -> str:
             )
         lines.append(f"  bands: below {d['band_low']:g}, inside up to {d['band_high']:g}, above (common practice, no source)")
         lines.append("  U_Dean = 1.8e-4 De^1.63 m/s: empirical correlation (Ookawara et al. 2004)")
+        sf = n.get("section_flow")
+        if sf and "skipped" in sf:
+            lines.append(f"  computed section flow at {sf['station']}: not available ({sf['skipped']})")
+        elif sf:
+            lines.append(
+                f"  computed (fully developed section flow at {sf['station']}, De = {sf['dean']:.3g}): secondary max "
+                f"{sf['computed_secondary_max_m_s'] * 1e3:.3g} mm/s, mean {sf['computed_secondary_mean_m_s'] * 1e3:.3g} mm/s, "
+                f"{sf['computed_vortex_cells']} vortex cells"
+            )
+            lines.append(
+                f"  correlation (Ookawara et al. 2004) there: {sf['correlation_dean_velocity_m_s'] * 1e3:.3g} mm/s = "
+                f"{sf['correlation_over_computed_mean']:.3g} x the computed mean  (chanmesh dean for the full picture)"
+            )
     if n["chambers"]:
         c = n["chambers"]
         lines += ["", f"Chambers    straight, no Dean number; expansion ratio chamber/throat = {c['expansion_ratio']:.4g}"]

@@ -17,6 +17,7 @@ import numpy as np
 from chanmesh import __version__
 from chanmesh.post.cut import Z, Cut
 from chanmesh.post.cut_plot import render_png
+from chanmesh.post.result_file import ResultField
 from chanmesh.safeio import StagedOutput
 
 NAMES = ("section.csv", "section.vtu", "section.png", "section.json")
@@ -63,28 +64,36 @@ def section_dataset(c: Cut):  # type: ignore[no-untyped-def]
     return sg.cast_to_unstructured_grid()
 
 
-def json_data(c: Cut, design_name: str, field: str, association: str, source: str) -> dict[str, Any]:
+def json_data(c: Cut, design_name: str, result: ResultField) -> dict[str, Any]:
     return {
         "schema": "chanmesh.cut/1",
         "chanmesh_version": __version__,
         "design": design_name,
-        "result": source,
-        "field": {"name": field, "association": association},
+        "result": result.source,
+        "reader": result.kind,
+        "time": result.time,
+        "times": list(result.times),
+        "scale_m_per_unit": result.scale,
+        "field": {"name": result.name, "association": result.association, "also_as": result.also or None},
         "station": c.frame.to_dict(),
         "sampling": {"across": c.grid.shape[1], "high": c.grid.shape[0], "points": int(np.prod(c.grid.shape)),
-                     "rule": "cell-centred samples on the exact outline, midpoint rule, VTK probe filter"},
+                     "rule": "node samples on the exact outline, walls and mid-planes included, trapezoidal rule, VTK probe filter; maxima refined by parabolas between samples"},
         "figures": c.figures,
         "view": "looking downstream: u along n = t x z to the right, z up; sense of rotation in that view",
         "cautions": CAUTIONS,
     }
 
 
-def write_cut(c: Cut, out: Path, title: str, design_name: str, field: str, association: str, source: str) -> list[Path]:
-    """Write the four files into ``out``; returns their paths."""
+def write_cut(c: Cut, out: Path, title: str, design_name: str, result: ResultField,
+              extra: dict[str, bytes] | None = None) -> list[Path]:
+    """Write the four files (and any ``extra`` name -> bytes, e.g. the comparison picture) into
+    ``out``; returns their paths."""
     with StagedOutput(Path(out)) as staged:
+        for name, data in (extra or {}).items():
+            (staged.stage / name).write_bytes(data)
         (staged.stage / "section.csv").write_text(csv_text(c), encoding="utf-8")
         section_dataset(c).save(str(staged.stage / "section.vtu"))
         (staged.stage / "section.png").write_bytes(render_png(c, title))
-        data = json_data(c, design_name, field, association, source)
+        data = json_data(c, design_name, result)
         (staged.stage / "section.json").write_text(json.dumps(data, indent=2) + "\n", encoding="utf-8")
         return staged.commit("section.json")

@@ -44,18 +44,6 @@ def _wall_names(c: Cut) -> tuple[str, str]:
     return "outer wall", "inner wall"
 
 
-def _to_walls(c: Cut) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The cell-centred samples with a ring of wall points added (edge values carried to the
-    walls), so the filled contour reaches the outline instead of stopping half a cell short."""
-    g, o = c.grid, c.frame.outline
-    u = np.concatenate([[o.u0], g.u, [o.u1]])
-    eta = np.concatenate([[0.0], g.eta, [1.0]])
-    h = np.asarray(o.top(u)) - o.bottom
-    uu = np.broadcast_to(u, (len(eta), len(u)))
-    vv = o.bottom + eta[:, None] * h[None, :]
-    return uu, vv, np.pad(c.streamwise, 1, mode="edge")
-
-
 def render_png(c: Cut, title: str) -> bytes:
     """PNG bytes of the picture (matplotlib, Agg backend)."""
     import matplotlib
@@ -75,8 +63,7 @@ def render_png(c: Cut, title: str) -> bytes:
     fig, ax = plt.subplots(figsize=(fig_w, plot_h + 1.9), dpi=130)
     lo, hi = min(0.0, float(c.streamwise.min())), float(c.streamwise.max()) or 1.0
     levels = MaxNLocator(nbins=20).tick_values(lo, hi)
-    uu, vv, ww = _to_walls(c)
-    cs = ax.contourf(uu * um, vv * um, ww, levels=levels, cmap="viridis", extend="both")
+    cs = ax.contourf(g.uu * um, g.vv * um, c.streamwise, levels=levels, cmap="viridis", extend="both")
     cax = make_axes_locatable(ax).append_axes("right", size="2.5%", pad=0.12)
     bar = fig.colorbar(cs, cax=cax)
     bar.set_label("streamwise speed (m/s)")
@@ -101,7 +88,7 @@ def render_png(c: Cut, title: str) -> bytes:
         ax.text(u + (-0.012 if ha == "right" else 0.012) * width, mid_v, name, rotation=90, va="center",
                 ha=ha, fontsize=9, color="firebrick", rotation_mode="default")
         ax.plot([u, u], [o.bottom * um, float(o.top(u / um)) * um], color="firebrick", linewidth=3.0)
-    for k, vx in enumerate(c.figures.get("vortices", [])[:6]):
+    for k, vx in enumerate(c.figures.get("vortices", [])):  # the list section.json has, all of it
         ccw = vx["sense"] == "counter-clockwise"
         ax.plot(vx["u_m"] * um, vx["v_m"] * um, marker="o", markersize=7, markerfacecolor="none",
                 markeredgecolor="orange", markeredgewidth=2)

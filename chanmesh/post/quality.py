@@ -23,10 +23,11 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
-from chanmesh.meshing.verify import FACES
+from chanmesh.meshing.faces import FaceTable, face_table
 from chanmesh.post.facepairs import pair_faces
 
-CHUNK = 400_000  # cells per batch: bounds the temporary arrays at a few hundred MB
+CHUNK = 400_000  # cells per sum of the scaled Jacobian (the grouping fixes the mean to the last bit)
+SUB = 50_000  # cells per batch of geometry: bounds the temporaries at a few tens of MB
 
 _HEX_CORNERS = np.array([
     [0, 1, 3, 4], [1, 2, 0, 5], [2, 3, 1, 6], [3, 0, 2, 7],
@@ -138,31 +139,6 @@ def edge_ratio(points: np.ndarray, cell_type: str, cells: np.ndarray) -> np.ndar
     return _edge_ratio(_CellGeometry(points, cells), cell_type)
 
 
-@dataclass(frozen=True)
-class _Faces:
-    nodes: np.ndarray  # (f, k) outward node order
-    owner: np.ndarray  # (f,) global cell index
-
-
-def _faces_by_size(mesh: ChannelMesh) -> dict[int, _Faces]:
-    out: dict[int, list[tuple[np.ndarray, np.ndarray]]] = {3: [], 4: []}
-    start = 0
-    for b in mesh.volumes:
-        for local, size in zip(FACES[b.type], (3, 4)):
-            if local:
-                loc = np.array(local)
-                f = b.cells[:, loc].reshape(-1, size)
-                owner = np.repeat(np.arange(start, start + len(b.cells)), len(loc))
-                out[size].append((f, owner))
-        start += len(b.cells)
-    res = {}
-    for size, parts in out.items():
-        if parts:
-            nodes = np.concatenate([f for f, _ in parts])
-            res[size] = _Faces(nodes, np.concatenate([o for _, o in parts]))
-    return res
-
-
 def _area_vectors(points: np.ndarray, f: np.ndarray) -> np.ndarray:
     if f.shape[1] == 3:
         return np.cross(points[f[:, 1]] - points[f[:, 0]], points[f[:, 2]] - points[f[:, 0]])
@@ -170,7 +146,15 @@ def _area_vectors(points: np.ndarray, f: np.ndarray) -> np.ndarray:
 
 
 def _centres(mesh: ChannelMesh) -> np.ndarray:
-    return np.concatenate([mesh.points[b.cells].mean(axis=1) for b in mesh.volumes])
+    """Node mean of every cell, (n, 3), in batches (no (n, 8, 3) temporary)."""
+    out = np.empty((mesh.n_volume_cells, 3))
+    start = 0
+    for b in mesh.volumes:
+        for lo in range(0, len(b.cells), SUB):
+            part = b.cells[lo:lo + SUB]
+            out[start + lo:start + lo + len(part)] = mesh.points[part].mean(axis=1)
+        start += len(b.cells)
+    return out
 
 
 def _wall_facets(mesh: ChannelMesh, size: int) -> np.ndarray | None:
@@ -189,40 +173,41 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     ratios: list[np.ndarray] = []
     for b in mesh.volumes:
         for lo in range(0, len(b.cells), CHUNK):
-            geometry = _CellGeometry(mesh.points, b.cells[lo : lo + CHUNK])
-            sj = _scaled_jacobian(geometry, b.type)
+            parts = [_CellGeometry(mesh.points, b.cells[a:a + SUB]) for a in range(lo, min(lo + CHUNK, len(b.cells)), SUB)]
+            sj = np.concatenate([_scaled_jacobian(g, b.type) for g in parts])
             jac_min = min(jac_min, float(sj.min()))
             jac_sum += float(sj.sum())
             jac_counts += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
-            er = _edge_ratio(geometry, b.type)
+            er = np.concatenate([_edge_ratio(g, b.type) for g in parts])
+            del parts
             aspect = max(aspect, float(er.max()))
             ratios.append(er.astype(np.float32))
     centres = _centres(mesh)
     angle = 0.0
     heights: list[np.ndarray] = []
     has_wall = any(g.name == "wall" for g in mesh.groups)
-    cell_nodes = {}
-    start = 0
-    for b in mesh.volumes:
-        cell_nodes[(start, start + len(b.cells))] = b.cells
-        start += len(b.cells)
-    for size, faces in _faces_by_size(mesh).items():
-        partner = pair_faces(faces.nodes)
-        first = np.flatnonzero(partner > np.arange(len(partner)))
-        second = partner[first]
-        if len(first):
-            normal = _area_vectors(mesh.points, faces.nodes[first])
-            join = centres[faces.owner[second]] - centres[faces.owner[first]]
-            cos = np.abs(np.einsum("ij,ij->i", normal, join)) / (
-                np.linalg.norm(normal, axis=1) * np.linalg.norm(join, axis=1)
-            )
-            angle = max(angle, float(np.degrees(np.arccos(np.clip(cos.min(), 0.0, 1.0)))))
+    for size in (3, 4):
+        table = face_table(mesh, size)
+        if table is None:
+            continue
+        partner = table.partner
+        for lo in range(0, len(partner), SUB * 8):
+            own = np.arange(lo, min(lo + SUB * 8, len(partner)), dtype=np.int64)
+            other = partner[lo:lo + len(own)].astype(np.int64)
+            first, second = own[other > own], other[other > own]
+            if len(first):
+                normal = _area_vectors(mesh.points, table.nodes(first))
+                join = centres[table.owner(second)] - centres[table.owner(first)]
+                cos = np.abs(np.einsum("ij,ij->i", normal, join)) / (
+                    np.linalg.norm(normal, axis=1) * np.linalg.norm(join, axis=1)
+                )
+                angle = max(angle, float(np.degrees(np.arccos(np.clip(cos.min(), 0.0, 1.0)))))
         boundary = np.flatnonzero(partner < 0)
         wall = _wall_facets(mesh, size)
         if wall is not None:  # boundary faces that pair with a wall facet
-            with_wall = pair_faces(np.concatenate([faces.nodes[boundary], wall]))[: len(boundary)]
+            with_wall = pair_faces(np.concatenate([table.nodes(boundary), wall]))[: len(boundary)]
             boundary = boundary[with_wall >= 0]
-        heights.append(_wall_heights(mesh, faces, boundary, cell_nodes))
+        heights.append(_wall_heights(mesh, table, boundary))
     h = np.concatenate(heights) if heights else np.zeros(0)
     n = mesh.n_volume_cells
     return Quality(
@@ -257,19 +242,19 @@ def _histograms(jac_counts: np.ndarray, ratios: np.ndarray, heights: np.ndarray)
     return out
 
 
-def _wall_heights(mesh: ChannelMesh, faces: _Faces, which: np.ndarray, cell_nodes: dict) -> np.ndarray:
+def _wall_heights(mesh: ChannelMesh, table: FaceTable, which: np.ndarray) -> np.ndarray:
     """Mean distance from each selected face's plane to its cell's nodes off the face."""
     out = []
-    for (lo, hi), cells in cell_nodes.items():
-        sel = which[(faces.owner[which] >= lo) & (faces.owner[which] < hi)]
-        if not len(sel):
-            continue
-        f = faces.nodes[sel]
-        c = cells[faces.owner[sel] - lo]
-        normal = _area_vectors(mesh.points, f)
-        normal /= np.linalg.norm(normal, axis=1)[:, None]
-        centre = mesh.points[f].mean(axis=1)
-        off = ~(c[:, :, None] == f[:, None, :]).any(axis=2)
-        dist = np.abs(np.einsum("mkj,mj->mk", mesh.points[c] - centre[:, None, :], normal))
-        out.append((dist * off).sum(axis=1) / off.sum(axis=1))
+    for part in table.parts:
+        sel = which[(which >= part.start) & (which < part.stop)]
+        for lo in range(0, len(sel), SUB):
+            slots = sel[lo:lo + SUB]
+            f = table.nodes(slots)
+            c = part.cells[(slots - part.start) // len(part.local)]
+            normal = _area_vectors(mesh.points, f)
+            normal /= np.linalg.norm(normal, axis=1)[:, None]
+            centre = mesh.points[f].mean(axis=1)
+            off = ~(c[:, :, None] == f[:, None, :]).any(axis=2)
+            dist = np.abs(np.einsum("mkj,mj->mk", mesh.points[c] - centre[:, None, :], normal))
+            out.append((dist * off).sum(axis=1) / off.sum(axis=1))
     return np.concatenate(out) if out else np.zeros(0)

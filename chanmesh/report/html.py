@@ -110,7 +110,9 @@ def design_rows(design: Design) -> list[list[Any]]:
             continue
         for key, value in values.items():
             full = f"{table}.{key}"
-            if value is None or value == [] or value == ():
+            if table == "path" and key == "segments":
+                rows += [[f"{full}[{i}]", _piece_text(piece, per, design.unit), ""] for i, piece in enumerate(value)]
+            elif value is None or value == [] or value == ():
                 rows.append([full, "—", ""])
             elif key in _LENGTH_FIELDS and table != "flow" or (table == "flow" and key == "particles"):
                 if isinstance(value, list):
@@ -310,3 +312,14 @@ def write_report(folder: Path, design: Design, mesh: ChannelMesh, manifest: dict
     path = Path(folder) / REPORT
     path.write_text(report_html(design, mesh, manifest, files), encoding="utf-8")
     return path
+
+
+def _piece_text(piece: dict[str, float], per: float, unit: str) -> str:
+    """One piece of a segments path in the design's unit: line, arc or spiral."""
+    if "line" in piece:
+        return f"line {piece['line'] * per:.6g} {unit}"
+    if "arc" in piece:
+        side = "left" if piece["angle"] > 0 else "right"
+        return f"arc R = {piece['arc'] * per:.6g} {unit}, {piece['angle']:g} deg ({side})"
+    side = "left" if piece["turns"] > 0 else "right"
+    return f"spiral r0 = {piece['spiral'] * per:.6g} {unit}, pitch {piece['pitch'] * per:.6g} {unit}, {piece['turns']:g} turns ({side})"

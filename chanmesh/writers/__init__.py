@@ -10,16 +10,18 @@ from __future__ import annotations
 import importlib
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-from chanmesh.design.model import Design
-from chanmesh.meshing.model import ChannelMesh
+if TYPE_CHECKING:  # the registry stays light: the command line reads it for --help
+    from chanmesh.design.model import Design
+    from chanmesh.meshing.model import ChannelMesh
 
 
 @dataclass(frozen=True)
 class WriteOptions:
     msh_version: str = "4.1"  # "4.1" | "2.2"
     binary: bool = False
+    msh_sections: bool = True  # False: MSH without the internal section_k surfaces (for gmshToFoam)
 
 
 @dataclass(frozen=True)
@@ -30,8 +32,9 @@ class Format:
     function: str
     summary: str
     keeps_names: bool
-    source: str = "mesh"  # "mesh": written from the ChannelMesh; "design": from the design's solid
+    source: str = "mesh"  # "mesh": written from the ChannelMesh; "design": from the design's solid; "case": both
     variant: str = ""  # passed on as ``file_format`` (meshio pass-through formats)
+    check: str = ""  # optional ``check(design)`` in ``module``, run before meshing (refuse early)
 
     def _function(self) -> Callable[..., list[Path]]:
         fn = getattr(importlib.import_module(self.module), self.function)
@@ -42,7 +45,14 @@ class Format:
 
     def write_for(self, design: Design, mesh: ChannelMesh, folder: Path, stem: str, options: WriteOptions) -> list[Path]:
         """Write from whichever input this format is made from."""
+        if self.source == "case":  # a solver case: the mesh plus the design's operating point
+            return self._function()(design, mesh, folder, stem, options)
         return self._function()(design if self.source == "design" else mesh, folder, stem, options)
+
+    def check_design(self, design: Design) -> None:
+        """Raise ``DesignError`` before meshing when this format cannot be made for ``design``."""
+        if self.check:
+            getattr(importlib.import_module(self.module), self.check)(design)
 
 
 _G = "chanmesh.writers.gmsh_formats"
@@ -63,6 +73,7 @@ FORMATS: dict[str, Format] = {
         Format("step", ".step", _S, "write_step", "STEP AP214 of the channel solid, millimetres (CAD, milling)", False, "design"),
         Format("stl", ".stl", _S, "write_stl", "binary STL of the channel solid, watertight, millimetres", False, "design"),
         Format("mould.stl", ".mould.stl", _S, "write_mould_stl", "binary STL of a casting mould: base plate with the channel standing proud, mm", False, "design"),
+        Format("openfoam", "", "chanmesh.writers.openfoam", "write_openfoam", "OpenFOAM case folder openfoam/: polyMesh, 0/U, 0/p, laminar steady simpleFoam set-up from [flow]", True, "case", check="check_openfoam"),
         Format("dxf", ".dxf", "chanmesh.writers.dxf", "write_dxf", "DXF plan: channel outline and port punch circles on their own layers (um or mm)", False, "design"),
     )
 }

@@ -9,14 +9,27 @@ from __future__ import annotations
 from pathlib import Path
 
 import gmsh
+import numpy as np
 
 from chanmesh.gmshlayer.discrete import load_discrete
 from chanmesh.gmshlayer.session import gmsh_session
-from chanmesh.meshing.model import ChannelMesh
+from chanmesh.meshing.model import Block, ChannelMesh
+from chanmesh.meshing.verify import INTERNAL_PREFIX
 from chanmesh.writers import WriteOptions
 
 
+def without_sections(mesh: ChannelMesh) -> ChannelMesh:
+    """``mesh`` without its internal ``section_*`` surface groups (their facets dropped)."""
+    drop = {g.tag for g in mesh.groups if g.dim == 2 and g.name.startswith(INTERNAL_PREFIX)}
+    if not drop:
+        return mesh
+    facets = [Block(b.type, b.cells[~np.isin(b.tags, list(drop))], b.tags[~np.isin(b.tags, list(drop))]) for b in mesh.facets]
+    return ChannelMesh(mesh.points, mesh.volumes, facets, [g for g in mesh.groups if g.tag not in drop], dict(mesh.info))
+
+
 def _write(mesh: ChannelMesh, path: Path, options: WriteOptions, msh: bool = False) -> list[Path]:
+    if msh and not options.msh_sections:
+        mesh = without_sections(mesh)
     with gmsh_session(threads=1):
         load_discrete(mesh)
         gmsh.option.setNumber("Mesh.SaveAll", 0)

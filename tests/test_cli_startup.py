@@ -1,0 +1,78 @@
+"""The command line starts light and an interrupt at any moment ends it with one line and 130.
+
+Exit status 128 + signal number for a process ended by a signal is the POSIX shell convention
+(IEEE Std 1003.1, "Shell Command Language", 2.8.2 Exit Status for Commands): 130 for SIGINT.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+HEAVY = ("numpy", "scipy", "gmsh", "pyvista", "vtk", "matplotlib", "dask", "distributed", "meshio", "h5py", "iapws")
+
+
+def _env() -> dict[str, str]:
+    return {**os.environ, "PYTHONPATH": str(ROOT)}
+
+
+def test_parser_and_every_command_module_import_no_heavy_library():
+    code = (
+        "import sys, chanmesh.cli as c\n"
+        "c.build_parser()\n"
+        f"print(sorted(m for m in {HEAVY!r} if m in sys.modules))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], env=_env(), capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "[]"
+
+
+def test_new_and_help_import_no_heavy_library():
+    code = (
+        "import sys, io, contextlib\nfrom chanmesh.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n    main(['new', 'arc'])\n"
+        f"print(sorted(m for m in {HEAVY!r} if m in sys.modules))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], env=_env(), capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "[]"
+
+
+def _started(proc: subprocess.Popen, seen: list[str]) -> None:
+    """Wait until chanmesh's first module has run: ``-X importtime`` reports each import as it
+    completes, and chanmesh.interrupt is chanmesh's first (before it, the interrupt is Python's
+    own start-up to handle: a loaded machine was seen to take over 0.5 s to get there)."""
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline:
+        line = proc.stderr.readline()
+        seen.append(line)
+        if not line or "chanmesh.interrupt" in line:
+            return
+
+
+@pytest.mark.parametrize("delay", [0.0, 0.1, 0.3, 0.6, 1.2])
+def test_sigint_at_any_moment_of_a_build_exits_130_with_one_line(tmp_path, delay):
+    design = tmp_path / "d.toml"
+    design.write_text(
+        'name = "t"\nunit = "um"\n[section]\nwidth = 200\nheight = 50\n'
+        '[path]\nkind = "spiral"\ninner_radius = 800\npitch = 400\nturns = 2\n[mesh]\ncells_across = 6\n'
+    )
+    cmd = [sys.executable, "-X", "importtime", "-m", "chanmesh", "build", str(design), "--out", str(tmp_path / "o"), "--quiet"]
+    proc = subprocess.Popen(cmd, env=_env(), stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    seen: list[str] = []
+    _started(proc, seen)
+    time.sleep(delay)
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=60)
+    if proc.returncode == 0:
+        pytest.skip("the build finished before the interrupt")
+    err = "".join(line for line in (seen + err.splitlines(keepends=True)) if not line.startswith("import time:"))
+    assert proc.returncode == 130, err
+    assert "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1 and "interrupted" in err
+    assert not (tmp_path / "o" / "manifest.json").exists()
