@@ -106,9 +106,14 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
     m = max(1, int(math.ceil(math.log(h_max / h1) / math.log(ratio) - 1e-9)))
     ramp_length = h1 * (ratio**m - 1.0) / (ratio - 1.0) if m * h1 < length else math.inf
     middle = length - 2.0 * ramp_length
-    if middle < h1 * ratio ** (m - 1):
-        # the two ramps meet: the fewest cells of a symmetric progression that starts at
-        # exactly h1 and grows by at most ``ratio``
+    last = h1 * ratio ** (m - 1)  # in [h_max / ratio, h_max], since h1 ratio^m >= h_max
+    # the uniform middle cell c must keep the step from the ramp within the ratio both ways,
+    # c in [last / ratio, last ratio]; of the counts that allow it, the one nearest h_max
+    fewest = max(1, int(math.ceil(middle / (last * ratio) - 1e-9))) if middle > 0 else 1
+    most = int(math.floor(middle * ratio / last + 1e-9)) if middle > 0 else 0
+    if most < fewest:
+        # the two ramps meet (or leave too little between them): the fewest cells of a
+        # symmetric progression that starts at exactly h1 and grows by at most ``ratio``
         lo, hi = 1, 2
         while first_cell(length, hi, ratio) > h1:
             lo, hi = hi, hi * 2
@@ -120,7 +125,7 @@ def capped_nodes(length: float, h1: float, ratio: float, h_max: float) -> np.nda
             return np.linspace(0.0, length, n + 1)
         return graded_nodes(length, n, ratio_for_first_cell(length, n, h1))
     ramp = h1 * ratio ** np.arange(m)
-    n_mid = max(1, int(round(middle / h_max)))
+    n_mid = min(max(int(round(middle / h_max)), fewest), most)
     cells = np.concatenate([ramp, np.full(n_mid, middle / n_mid), ramp[::-1]])
     nodes = np.concatenate([[0.0], np.cumsum(cells)])
     nodes *= length / nodes[-1]

@@ -8,6 +8,7 @@ from chanmesh.design import loads_design
 
 PATHS = {
     "arc": {"kind": "arc", "radius": 1000, "angle": 90},
+    "straight": {"kind": "straight", "length": 600},
     "spiral": {"kind": "spiral", "inner_radius": 800, "pitch": 400, "turns": 1.25},
     "serpentine": {"kind": "serpentine", "radius": 250, "straight": 600, "periods": 1},
     "chambers": {

@@ -76,7 +76,7 @@ def test_report_is_self_contained(built):
     assert "<script" not in text
     assert not re.search(r'(src|href)="(?!data:)', text)  # nothing fetched from anywhere
     images = re.findall(r'<img src="data:image/png;base64,([A-Za-z0-9+/=]+)"', text)
-    assert len(images) == 5  # plan view, 3D view, three quality histograms
+    assert len(images) == 7  # plan view, 3D view, three quality histograms, section mesh, section flows
     for k, data in enumerate(images):
         img = Image.open(io.BytesIO(base64.b64decode(data)))
         assert img.format == "PNG" and img.size[0] >= (800 if k < 2 else 500)
@@ -100,7 +100,7 @@ def test_quality_histograms_are_drawn_from_the_build_manifest(built):
     # each histogram counts every volume cell once (wall heights: one per wall facet)
     assert sum(quality["histograms"]["scaled_jacobian"]["counts"]) == built.mesh.n_volume_cells
     text = report_html(loads_design(DESIGN), built.mesh, built.manifest, [])
-    assert len(re.findall(r"<img ", text)) == 2 + 3  # plan, 3D view, three histograms
+    assert len(re.findall(r"<img ", text)) == 2 + 3 + 2  # plan, 3D view, three histograms, resolution
     assert "scaled jacobian min" in text
 
 
@@ -108,7 +108,7 @@ def test_a_manifest_without_quality_says_so(built):
     manifest = {k: v for k, v in built.manifest.items() if k != "quality"}
     text = report_html(loads_design(DESIGN), built.mesh, manifest, [])
     assert "No quality figures" in text
-    assert len(re.findall(r"<img ", text)) == 2
+    assert len(re.findall(r"<img ", text)) == 2 + 2  # plan, 3D view, the resolution figure's two
 
 
 @needs_chromium
@@ -118,7 +118,7 @@ def test_report_renders_in_headless_chromium(built, tmp_path):
     dom = _chromium("--virtual-time-budget=5000", "--dump-dom", page.as_uri())
     assert dom.returncode == 0, dom.stderr[-2000:]
     match = re.search(r'data-images="(\d+)/(\d+)"', dom.stdout)
-    assert match and match.group(1) == match.group(2) == "5", "every embedded image decodes"
+    assert match and match.group(1) == match.group(2) == "7", "every embedded image decodes"
     shot = tmp_path / "shot.png"
     run = _chromium("--window-size=1280,2400", f"--screenshot={shot}", (built.folder / REPORT).as_uri())
     assert run.returncode == 0, run.stderr[-2000:]

@@ -37,15 +37,20 @@ def section_sizes(d) -> tuple[np.ndarray, np.ndarray]:  # noqa: ANN001
 
 
 def test_core_cells_are_what_the_counts_ask():
-    # cells_across = 12, cells_high = 8: core cells of W/12 = 20 um and H/8 = 10 um; the core
-    # count is rounded to the nearest whole number, so the core cell lies within half a cell's
-    # rounding of it: |core' / core - 1| <= 1 / (2 n_core - 1)
-    across, high = section_sizes(design("cells_across = 12\ncells_high = 8\nfirst_cell = 2"))
+    # cells_across = 12, cells_high = 8: core cells of W/12 = 20 um and H/8 = 10 um. The wall
+    # ramp ends at a cell `last` in [core / g, core] (g = wall_ratio), and the uniform core cell
+    # c keeps the step from it within g both ways, c in [last / g, last g]; so c lies in
+    # [core / g^2, core g], the count nearest the asked core among those allowed
+    d = design("cells_across = 12\ncells_high = 8\nfirst_cell = 2")
+    g = d.mesh.wall_ratio
+    across, high = section_sizes(d)
     for sizes, core in ((across, W / 12), (high, H / 8)):
         middle = sizes[len(sizes) // 2]
         n_core = int(np.sum(np.isclose(sizes, middle, rtol=1e-9)))
         assert n_core >= 2 and np.isclose(sizes, middle, rtol=1e-9)[len(sizes) // 2 - n_core // 2:][:n_core].all()
-        assert abs(middle / core - 1) <= 1 / (2 * n_core - 1)
+        assert core / g**2 * (1 - 1e-9) <= middle <= core * g * (1 + 1e-9)
+        steps = sizes[1:] / sizes[:-1]
+        assert np.all(steps <= g * (1 + 1e-9)) and np.all(1 / steps <= g * (1 + 1e-9))
 
 
 def test_wall_cell_stays_put_when_the_core_is_refined():
@@ -122,7 +127,7 @@ def test_refusal_names_the_key_that_drives_the_count():
     from chanmesh.build import check_estimate
 
     with pytest.raises(DesignError) as wall:
-        check_estimate(design("cells_across = 4\ncells_high = 2\nfirst_cell = 0.01\nwall_ratio = 1.01\nmax_cells = 1000"))
+        check_estimate(design("cells_across = 4\ncells_high = 2\nfirst_cell = 0.05\nwall_ratio = 1.01\nmax_cells = 1000"))
     assert "wall layers drive it" in str(wall.value) and "mesh.first_cell" in str(wall.value)
     with pytest.raises(DesignError) as core:
         check_estimate(design("cells_across = 400\ncells_high = 100\nmax_cells = 1000", angle=1))

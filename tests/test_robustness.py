@@ -82,7 +82,8 @@ def check_invariants(data: dict, folder: Path) -> None:
     # the drawn bends reach an inner-wall radius of 0.1 w, which a few tetrahedra facet
     # coarsely (measured up to 3.3e-3 on a serpentine with R = 0.6 w, 3 cells across)
     grid = pv.read(folder / f"{data['name']}.vtu")
-    tets = grid.extract_cells(np.flatnonzero(np.asarray(grid.celltypes) == pv.CellType.TETRA))
+    volume_types = [pv.CellType.TETRA, pv.CellType.HEXAHEDRON]  # tetrahedra or (the default) hexahedra
+    tets = grid.extract_cells(np.flatnonzero(np.isin(np.asarray(grid.celltypes), volume_types)))
     vols = tets.compute_cell_sizes(length=False, area=False, volume=True).cell_data["Volume"]
     assert np.all(vols > 0)
     assert vols.sum() == pytest.approx(hand.volume(data["section"], data["path"]), rel=1e-2, abs=0)
