@@ -48,6 +48,8 @@ def run(args: argparse.Namespace) -> int:
     assignments = combine([parse_vary(v) for v in args.vary], paired=args.zip)
     for key in assignments[0]:
         apply(data, {key: assignments[0][key]})  # a key that cannot be set fails here, once
+    for assignment in assignments:  # unknown keys and unreadable values are bad options, not variants
+        design_from_dict(apply(data, assignment), check=False)
     out = args.out or Path("out") / f"{base.name}-sweep"
     request = SweepRequest(args.format, write_options(args), args.family, args.ratio)
     previous = signal.signal(signal.SIGTERM, _terminate_as_interrupt)  # clean shutdown of the cluster

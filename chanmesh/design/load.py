@@ -285,8 +285,10 @@ def read_table(raw: dict[str, Any], where: str, keys: dict[str, Key], scale: flo
     return out
 
 
-def design_from_dict(data: dict[str, Any]) -> Design:
-    """Build and check a ``Design`` from parsed TOML data."""
+def design_from_dict(data: dict[str, Any], check: bool = True) -> Design:
+    """Build and check a ``Design`` from parsed TOML data. With ``check=False`` only the schema
+    (keys, types, units) is enforced, not feasibility: what a sweep checks before any variant
+    runs, since an infeasible variant is a result but a misspelt key is a bad option."""
     from chanmesh.design.checks import check_design
 
     for k in data:
@@ -314,7 +316,8 @@ def design_from_dict(data: dict[str, Any]) -> Design:
     flow = FlowSpec(**read_table(_table(data.get("flow"), "flow"), "flow", FLOW_KEYS, scale))
     fab = Fabrication(**read_table(_table(data.get("fabrication"), "fabrication"), "fabrication", FABRICATION_KEYS, scale))
     design = Design(name=name, section=section, path=path, outlets=outlets, inlets=inlets, mesh=mesh, flow=flow, fabrication=fab, unit=unit)
-    check_design(design)
+    if check:
+        check_design(design)
     return design
 
 

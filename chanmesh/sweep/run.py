@@ -122,6 +122,10 @@ def _levels_from_disk(folder: Path, request: SweepRequest) -> list[dict[str, Any
     return [{"level": 1, "cells": m["volume_cells"], "quality": m.get("quality")}]
 
 
+SCHEDULER_TIMEOUT_S = 5
+"""How long ``--scheduler`` waits for the scheduler to answer before the sweep is refused."""
+
+
 def run_sweep(
     data: dict[str, Any],
     assignments: list[dict[str, Any]],
@@ -143,7 +147,12 @@ def run_sweep(
     bar = ProgressBar(len(assignments), label="sweep ", quiet=quiet)
     rows: dict[int, dict[str, Any]] = {}
     if scheduler:
-        client, cluster = Client(scheduler), None
+        try:
+            client, cluster = Client(scheduler, timeout=SCHEDULER_TIMEOUT_S), None
+        except (OSError, TimeoutError, ValueError) as exc:
+            raise DesignError("--scheduler", scheduler, f"no dask scheduler answered within {SCHEDULER_TIMEOUT_S} s "
+                              f"({type(exc).__name__}); start one (dask scheduler) or leave --scheduler out "
+                              "for a local cluster") from None
     else:
         cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None)
         client = Client(cluster)
