@@ -231,3 +231,29 @@ def test_zero_leads_stay_allowed():
     from chanmesh.design.load import loads_design
 
     loads_design(SECTION_100x50 + 'kind = "arc"\nradius = 300\nangle = 90\ninlet_length = 0\noutlet_length = 1')
+
+
+def test_quality_of_a_folder_says_it_is_a_folder(capsys, tmp_path):
+    one_line(capsys, ["quality", str(tmp_path)], "is a folder")
+
+
+def test_json_under_a_file_says_it_is_a_file(capsys, tmp_path):
+    design = tmp_path / "d.toml"
+    design.write_text(arc_text("d"))
+    one_line(capsys, ["numbers", str(design), "--flow", "1mL/min", "--json", str(design / "x.json")],
+             "is a file, not a folder")
+
+
+def test_numbers_without_a_flow_names_the_options(capsys, tmp_path):
+    design = tmp_path / "d.toml"
+    design.write_text(arc_text("d"))
+    one_line(capsys, ["numbers", str(design), "--no-section-flow"], "flow.rate", "--flow", "--velocity")
+
+
+def test_a_study_with_thousands_of_columns_is_refused_at_once(capsys, tmp_path):
+    table = tmp_path / "r.csv"
+    names = [f"q{i}" for i in range(2000)]
+    rows = ["level," + ",".join(names)] + [f"{lv}," + ",".join(["1.0"] * 2000) for lv in (1, 2, 3)]
+    table.write_text("\n".join(rows) + "\n")
+    one_line(capsys, ["gci", str(table), "--out", str(tmp_path / "g")], "2001 columns", "at most 100")
+    assert not (tmp_path / "g").exists()

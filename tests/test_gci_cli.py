@@ -12,6 +12,12 @@ import pytest
 from chanmesh.cli import main
 
 
+@pytest.fixture(autouse=True)
+def _in_tmp(tmp_path, monkeypatch):  # noqa: ANN001, ANN202
+    """The default output folder is out/gci under the working folder: keep it in tmp_path."""
+    monkeypatch.chdir(tmp_path)
+
+
 def write(path: Path, text: str) -> Path:
     path.write_text(text, encoding="utf-8")
     return path
@@ -30,17 +36,17 @@ def test_celik_study_writes_every_output(tmp_path, capsys):
     assert main(["gci", str(csv_path), "--dim", "2"]) == 0
     shown = capsys.readouterr().out
     assert "apparent order p" in shown and "1.534" in shown
-    data = json.loads((tmp_path / "gci.json").read_text())
+    data = json.loads((tmp_path / "out" / "gci" / "gci.json").read_text())
     first = data["quantities"][0]["triples"][0]
     # Celik et al. (2008) Table 1, column 1: p = 1.53, phi_ext = 6.1685, GCI_fine = 2.2 %.
     assert first["p"] == pytest.approx(1.53, abs=5e-3)
     assert first["phi_ext21"] == pytest.approx(6.1685, abs=5e-5)
     assert 100 * first["gci_fine"] == pytest.approx(2.2, abs=0.05)
-    rows = list(csv.DictReader((tmp_path / "gci.csv").open()))
+    rows = list(csv.DictReader((tmp_path / "out" / "gci" / "gci.csv").open()))
     assert [r["quantity"] for r in rows] == ["reattachment", "oscillating"]
     assert rows[1]["s"] == "-1" and "oscillatory" in rows[1]["flags"]
     for name in ("reattachment", "oscillating"):
-        png = tmp_path / f"gci-{name}.png"
+        png = tmp_path / "out" / "gci" / f"gci-{name}.png"
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     leftovers = [p.name for p in tmp_path.iterdir() if p.name.endswith(".part")]
     assert leftovers == []
@@ -73,7 +79,7 @@ def test_family_json_supplies_h_and_five_levels_fit(tmp_path, capsys):
     rows = "".join(f"{i + 1},{v!r}\n" for i, v in enumerate(phi))
     csv_path = write(tmp_path / "RESULTS.csv", "level,dp\n" + rows)
     assert main(["gci", str(csv_path), "--family", str(family)]) == 0
-    data = json.loads((tmp_path / "gci.json").read_text())
+    data = json.loads((family / "gci.json").read_text())  # written beside family.json
     fit = data["quantities"][0]["fit"]
     assert abs(fit["p"] - 1.8) < 1e-10 and abs(fit["phi0"] - 10.0) < 1e-10
     assert len(data["quantities"][0]["triples"]) == 3
@@ -83,7 +89,7 @@ def test_family_json_supplies_h_and_five_levels_fit(tmp_path, capsys):
 def test_volume_gives_metres(tmp_path):
     csv_path = write(tmp_path / "RESULTS.csv", "level,cells,q\n1,8000,1.0\n2,1000,1.1\n3,125,1.5\n")
     assert main(["gci", str(csv_path), "--volume", "8e-9"]) == 0
-    data = json.loads((tmp_path / "gci.json").read_text())
+    data = json.loads((tmp_path / "out" / "gci" / "gci.json").read_text())
     assert data["h"] == pytest.approx([1e-4, 2e-4, 4e-4], rel=1e-12)  # (V/N)^(1/3)
 
 
@@ -92,7 +98,7 @@ def test_two_levels_give_two_grid_gci(tmp_path, capsys):
     assert main(["gci", str(csv_path)]) == 0
     out = capsys.readouterr().out
     assert "(3)" in out and "cannot be estimated" in out
-    rows = list(csv.DictReader((tmp_path / "gci.csv").open()))
+    rows = list(csv.DictReader((tmp_path / "out" / "gci" / "gci.csv").open()))
     assert rows[0]["kind"] == "two-grid" and float(rows[0]["safety_factor"]) == 3.0
 
 
@@ -123,7 +129,7 @@ def test_bad_tables_are_one_line_errors(tmp_path, capsys, text, expected):
     assert main(["gci", str(csv_path)]) == 2
     err = capsys.readouterr().err
     assert expected in err and "Traceback" not in err and err.count("\n") == 1
-    assert not (tmp_path / "gci.json").exists() and not (tmp_path / "gci.csv").exists()
+    assert not (tmp_path / "out" / "gci" / "gci.json").exists() and not (tmp_path / "out" / "gci" / "gci.csv").exists()
 
 
 def test_bad_options_and_family(tmp_path, capsys):
@@ -148,5 +154,5 @@ def test_divergent_column_is_flagged_not_fatal(tmp_path):
     csv_path = write(tmp_path / "RESULTS.csv", "level,h,q\n" + "".join(
         f"{i + 1},{x},{v}\n" for i, (x, v) in enumerate(zip(h, (1.0, 1.3, 1.4)))))
     assert main(["gci", str(csv_path)]) == 0
-    rows = list(csv.DictReader((tmp_path / "gci.csv").open()))
+    rows = list(csv.DictReader((tmp_path / "out" / "gci" / "gci.csv").open()))
     assert rows[0]["convergence"] == "divergent" and rows[0]["gci_fine"] == ""

@@ -122,6 +122,16 @@ def test_variant_family_is_built_then_resumed(tmp_path):
     # a variant that breaks a design rule is recorded, not raised
     bad = build_variant(2, data, {"path.angle": 400}, str(tmp_path), request)
     assert bad["status"] == "infeasible" and bad["message"].startswith("path.angle")
+    # summary.csv: each quality figure in a column of its own, one value per level, as the
+    # levels' manifests hold them; blank for the infeasible variant
+    from chanmesh.sweep.summary import QUALITY_COLUMNS, read_summary, write_summary
+
+    write_summary([first, bad], tmp_path, ["path.angle"])
+    built, refused = read_summary(tmp_path)
+    for column in QUALITY_COLUMNS:
+        values = [float(v) for v in built[column].split(";")]
+        assert values == pytest.approx([lv["quality"][column] for lv in first["levels"]], rel=1e-5, abs=0)
+        assert refused[column] == ""
 
 
 def _damage(path: Path, how: str) -> None:

@@ -25,7 +25,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--area", type=finite_float, metavar="A", help="domain area in m^2 for h = (A/N)^(1/2) (with --dim 2)")
     parser.add_argument("--order", type=finite_float, default=2.0,
                         help="formal order assumed for a two-grid GCI (default 2, a second-order scheme)")
-    parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: the CSV's folder)")
+    parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: the --family folder, else out/gci)")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -42,7 +42,8 @@ def run(args: argparse.Namespace) -> int:
     table = load_study(args.results, dim=args.dim, extent=extent, family=args.family)
     reports = gci_study(table, order=args.order)
     print(format_report(table, reports), end="")
-    out = args.out if args.out is not None else args.results.resolve().parent
+    # never the CSV's folder by default: in a first session that is the working copy's root
+    out = args.out if args.out is not None else (args.family if args.family is not None else Path("out") / "gci")
     for path in write_report(out, table, reports):
         print(f"wrote {path}")
     return 0

@@ -86,6 +86,11 @@ def run(args: argparse.Namespace) -> int:
 
     design = load_design(args.design)
     flow = dataclasses.replace(design.flow, **overrides(args))
+    if flow.rate is None and flow.velocity is None:
+        from chanmesh.errors import MISSING, DesignError
+
+        raise DesignError("flow.rate", MISSING, "give --flow (e.g. 1.2mL/min) or --velocity (e.g. 0.3m/s), "
+                          "or flow.rate / flow.velocity in the design's [flow] table")
     numbers = design_numbers(design, flow)
     if args.section_flow:
         from chanmesh.numbers.section_flow import section_flow_numbers

@@ -111,6 +111,7 @@ def write_json(numbers: dict[str, Any], path: str | Path) -> Path:
     target = Path(path)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
-        raise OutputError(f"--json {target}: the folder {folder} does not exist")
+        what = "is a file, not a folder" if folder.exists() else "does not exist"
+        raise OutputError(f"--json {target}: {folder} {what}")
     text = json.dumps(numbers, indent=2, allow_nan=False) + "\n"
     return atomic_write_text(target, text)

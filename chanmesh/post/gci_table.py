@@ -19,6 +19,9 @@ from chanmesh.post.gci import StudyTable
 
 RESERVED = ("level", "cells", "h")
 
+MAX_QUANTITIES = 100
+"""Quantity columns one study may hold: each gets a plot, so thousands would run for minutes."""
+
 
 def _number(where: str, text: str) -> float:
     try:
@@ -57,6 +60,9 @@ def read_results(path: Path) -> tuple[list[int], dict[str, list[str]], list[str]
     if not rows:
         raise StudyError(name, "(empty)", "needs a header row and one row per level")
     header = [cell.strip() for cell in rows[0]]
+    if len(header) > MAX_QUANTITIES + len(RESERVED):
+        raise StudyError(f"{name} header", f"{len(header)} columns",
+                         f"at most {MAX_QUANTITIES} quantity columns (one picture each); split the table")
     keys = [h.lower() if h.lower() in RESERVED else h for h in header]
     for i, key in enumerate(keys):
         if not key:

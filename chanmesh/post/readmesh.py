@@ -59,7 +59,8 @@ def read_mesh_file(path: str | Path) -> ChannelMesh:
 
     p = Path(path)
     if not p.is_file():
-        raise MeshFileError(f"mesh file '{p}' does not exist (give the path of a .msh, .xdmf, .vtu, ... file)")
+        what = "is a folder" if p.is_dir() else "does not exist"
+        raise MeshFileError(f"mesh file '{p}' {what} (give the path of a .msh, .xdmf, .vtu, ... file)")
     said = io.StringIO()
     try:
         with contextlib.redirect_stderr(said):

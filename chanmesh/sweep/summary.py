@@ -1,8 +1,8 @@
 """``summary.csv`` of a sweep: one row per variant, written atomically after each variant.
 
 Columns: variant, the varied keys, status (built, resumed, infeasible, failed), message, volume
-cells (finest level first for families, ';'-separated), mesh quality (JSON, when the manifest
-carries it), design numbers (Reynolds, largest Dean, pressure drop; blank without a [flow]),
+cells (finest level first for families, ';'-separated), the mesh quality figures one column
+each (as the manifest names them; ';'-separated per level for families), design numbers (Reynolds, largest Dean, pressure drop; blank without a [flow]),
 time in seconds, and the variant's folder relative to the sweep folder.
 """
 
@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 from pathlib import Path
 from typing import Any
 
@@ -21,6 +20,9 @@ from chanmesh.safeio import atomic_write_text
 
 SUMMARY = "summary.csv"
 NUMBER_COLUMNS = ("reynolds", "dean_max", "pressure_drop_Pa")
+QUALITY_COLUMNS = ("scaled_jacobian_min", "scaled_jacobian_mean", "aspect_ratio_max", "non_orthogonality_max",
+                   "wall_cell_min", "wall_cell_mean", "wall_cell_max")
+"""The manifest's quality figures, one column each so a spreadsheet can sort by them (wall cells in m)."""
 
 
 def design_figures(design: Design) -> dict[str, float | None]:
@@ -48,7 +50,7 @@ def _cell(value: Any) -> str:
 
 
 def summary_rows(rows: list[dict[str, Any]], keys: list[str]) -> list[list[str]]:
-    header = ["variant", *keys, "status", "message", "volume_cells", "quality", *NUMBER_COLUMNS, "time_s", "path"]
+    header = ["variant", *keys, "status", "message", "volume_cells", *QUALITY_COLUMNS, *NUMBER_COLUMNS, "time_s", "path"]
     out = [header]
     for r in rows:
         levels = r.get("levels") or []
@@ -60,7 +62,7 @@ def summary_rows(rows: list[dict[str, Any]], keys: list[str]) -> list[list[str]]
             r["status"],
             r.get("message", ""),
             ";".join(str(lv["cells"]) for lv in levels),
-            json.dumps(quality if len(quality) > 1 else quality[0], sort_keys=True) if quality else "",
+            *(";".join(_cell(q.get(c)) for q in quality) for c in QUALITY_COLUMNS),
             *(_cell(numbers.get(c)) for c in NUMBER_COLUMNS),
             _cell(r.get("time_s")),
             r.get("path", ""),
