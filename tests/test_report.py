@@ -39,6 +39,8 @@ inlet_length = 300
 cells_across = 4
 [flow]
 rate = "100uL/min"
+temperature = "22degC"
+particles = ["10um"]
 """
 
 CHROMIUM = shutil.which("chromium") or ("/usr/bin/chromium" if Path("/usr/bin/chromium").exists() else None)
@@ -128,3 +130,20 @@ def test_report_renders_in_headless_chromium(built, tmp_path):
     assert img.shape[:2] == (2400, 1280)
     inked = np.any(np.abs(img - 255) > 30, axis=2)
     assert inked.mean() > 0.02 and img.std() > 10
+
+
+def test_report_speaks_as_the_design_file_does(built):
+    """Issue 15 item 20: temperature as written (22 degrees C, not 295.15 K), lengths in µm, the
+    Dean-number definition stated, the particle verdicts and Dean velocities of `numbers`, and
+    report.html and manifest.json among the files."""
+    text = re.sub(r"<[^>]+>", " ", (built.folder / REPORT).read_text(encoding="utf-8"))
+    text = " ".join(text.split())
+    assert "flow.temperature 22 °C" in text and "295.15" not in text
+    assert "section.width 150 µm" in text and " um " not in text.replace("dxf_unit um", "")  # a value, as written
+    assert "De = Re * sqrt(D_h / (2 R))" in text  # Dean (1928) with D_h and the radius of curvature
+    numbers = built.manifest["numbers"]
+    verdict = "yes" if numbers["particles"][0]["expected_to_focus"] else "no"
+    assert f"10 µm {numbers['particles'][0]['confinement']:.6g}" in text and verdict in text
+    velocity = numbers["dean"]["stations"][0]["dean_velocity_m_s"] * 1e3
+    assert f"{velocity:.6g}" in text
+    assert "report.html this page" in text and "manifest.json written last" in text

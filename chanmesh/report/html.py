@@ -47,7 +47,6 @@ _LENGTH_FIELDS = {
 _FLOW_SHOWN = {  # key: (unit shown, factor from SI)
     "rate": ("µL/min", 1e9 * 60.0),
     "velocity": ("m/s", 1.0),
-    "temperature": ("K", 1.0),
     "density": ("kg/m³", 1.0),
     "viscosity": ("Pa·s", 1.0),
 }
@@ -104,21 +103,24 @@ def _columns(*blocks: str) -> str:
 def design_rows(design: Design) -> list[list[Any]]:
     """(key, value, unit) rows of the resolved design, lengths in the design file's unit."""
     per = 1.0 / design.scale
-    rows: list[list[Any]] = [["name", design.name, ""], ["unit", design.unit, ""]]
+    length_unit = "µm" if design.unit == "um" else design.unit
+    rows: list[list[Any]] = [["name", design.name, ""], ["unit", length_unit, ""]]
     for table, values in design.to_dict().items():
         if not isinstance(values, dict):
             continue
         for key, value in values.items():
             full = f"{table}.{key}"
             if table == "path" and key == "segments":
-                rows += [[f"{full}[{i}]", _piece_text(piece, per, design.unit), ""] for i, piece in enumerate(value)]
+                rows += [[f"{full}[{i}]", _piece_text(piece, per, length_unit), ""] for i, piece in enumerate(value)]
             elif value is None or value == [] or value == ():
                 rows.append([full, "—", ""])
             elif key in _LENGTH_FIELDS and table != "flow" or (table == "flow" and key == "particles"):
                 if isinstance(value, list):
-                    rows.append([full, ", ".join(f"{v * per:.6g}" for v in value), design.unit])
+                    rows.append([full, ", ".join(f"{v * per:.6g}" for v in value), length_unit])
                 else:
-                    rows.append([full, float(value) * per, design.unit])
+                    rows.append([full, float(value) * per, length_unit])
+            elif table == "flow" and key == "temperature":
+                rows.append([full, round(float(value) - 273.15, 6), "°C"])  # as a design file writes it
             elif table == "flow" and key in _FLOW_SHOWN:
                 unit, factor = _FLOW_SHOWN[key]
                 rows.append([full, float(value) * factor, unit])
@@ -209,11 +211,30 @@ def _numbers_section(numbers: dict[str, Any] | str) -> str:
         ["hydraulic diameter", (sec.get("hydraulic_diameter_m") or math.nan) * 1e6, "µm"],
         ["pressure drop", pressure.get("drop_kPa", math.nan), "kPa"],
     ]
+    computed = numbers.get("section_flow") or {}
+    if "computed_secondary_max_m_s" in computed:
+        rows += [
+            ["secondary speed, max (computed: fully developed section flow, chanmesh.flow)",
+             computed["computed_secondary_max_m_s"] * 1e3, "mm/s"],
+            ["secondary speed, mean (computed)", computed["computed_secondary_mean_m_s"] * 1e3, "mm/s"],
+        ]
     out = _table(["number", "value", "unit"], rows)
-    stations = (numbers.get("dean") or {}).get("stations") or []
+    dean = numbers.get("dean") or {}
+    stations = dean.get("stations") or []
     if stations:
-        out += _table(["Dean station", "Dean number", "regime"],
-                      [[s.get("label", ""), s.get("dean", math.nan), s.get("regime", "")] for s in stations])
+        out += f'<p class="note">Dean number: {html.escape(str(dean.get("definition", "")))}. Dean velocity: the ' \
+               "empirical correlation 1.8e-4 De^1.63 m/s (Ookawara et al. 2004), beside the computed secondary " \
+               "speed above.</p>"
+        out += _table(["Dean station", "Dean number", "regime", "Dean velocity (correlation), mm/s"],
+                      [[s.get("label", ""), s.get("dean", math.nan), s.get("regime", ""),
+                        (s.get("dean_velocity_m_s") or math.nan) * 1e3] for s in stations])
+    particles = numbers.get("particles") or []
+    if particles:
+        out += _table(["particle", "a / D_h (focusing needs ≳ 0.07, Di Carlo 2009)", "lift / Dean drag (per station)",
+                       "expected to focus"],
+                      [[f"{p['diameter_m'] * 1e6:.3g} µm", p.get("confinement", math.nan),
+                        ", ".join(f"{st.get('lift_over_drag', math.nan):.3g}" for st in p.get("stations", [])),
+                        "yes" if p.get("expected_to_focus") else "no"] for p in particles])
     return out
 
 
@@ -299,7 +320,7 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
         "<h2>Design numbers</h2>",
         _numbers_section(numbers_of(design, manifest)),
         "<h2>Files</h2>",
-        _table(["file", "bytes"], listing) if listing else '<p class="note">No files.</p>',
+        _table(["file", "bytes"], listing + [[REPORT, "this page"], ["manifest.json", "written last: every file's size and SHA-256"]]),
         "<h2>Cautions</h2>",
         '<div class="caution"><ul>' + "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS) + "</ul></div>",
         "</body></html>",
