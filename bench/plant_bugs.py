@@ -39,13 +39,17 @@ class Plant:
 PLANTS = [
     # --- the five of issue 17 -------------------------------------------------------------
     Plant("tagging check never raises", "chanmesh/meshing/verify.py",
-          "raise MeshCheckError(", "MeshCheckError(", ("tests/test_verify_checker.py",), every=True),
+          "def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:",
+          "def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:\n    try:\n        return _checked(mesh)\n"
+          "    except MeshCheckError:\n        return {}  # the plant: every failure swallowed\n\n\n"
+          "def _checked(mesh: ChannelMesh) -> dict[str, int]:",
+          ("tests/test_verify_checker.py",)),
     Plant("serpentine's last straight half as long", "chanmesh/geometry/centerline.py",
           "        out.append(LinePiece(path.straight))", "        out.append(LinePiece(0.5 * path.straight))",
           ("tests/test_hand_references.py",)),
     Plant("hex cells uniform over the height", "chanmesh/meshing/hexplan.py",
-          "    eta, ratio_high = _graded(H, n_high, grading, by_first)",
-          "    eta, ratio_high = np.linspace(0.0, H, n_high + 1), 1.0",
+          "    eta = grading.nodes_high(H)",
+          "    eta = np.linspace(0.0, H, len(grading.nodes_high(H)))",
           ("tests/test_mesh_grading.py::test_hex_cells_grow_by_the_wall_ratio_across_and_over_the_height",
            "tests/test_mesh_grading.py::test_hex_wall_cells_are_the_requested_first_cell")),
     Plant("resume accepts missing, truncated or altered files", "chanmesh/manifest.py",
