@@ -90,36 +90,28 @@ def atomic_write_text(path: Path, text: str) -> Path:
     return atomic_write_bytes(path, text.encode("utf-8"))
 
 
-def listed_files(manifest: Path) -> list[str]:
-    """Names of the files a manifest lists under ``files`` (plain names only; none if the
-    manifest is missing or unreadable)."""
+def _listed_names(manifest: Path) -> list[str]:
+    """Every string ``name`` under the manifest's ``files`` (none if it is missing or unreadable)."""
     try:
         data = json.loads(manifest.read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return []
     entries = data.get("files") if isinstance(data, dict) else None
-    names = []
-    for e in entries if isinstance(entries, list) else []:
-        name = e.get("name") if isinstance(e, dict) else None
-        if isinstance(name, str) and name and name == Path(name).name and name not in (".", ".."):
-            names.append(name)
-    return names
+    names = (e.get("name") if isinstance(e, dict) else None for e in (entries if isinstance(entries, list) else []))
+    return [n for n in names if isinstance(n, str)]
+
+
+def listed_files(manifest: Path) -> list[str]:
+    """Names of the files a manifest lists under ``files`` (plain names only; none if the
+    manifest is missing or unreadable)."""
+    return [n for n in _listed_names(manifest) if n and n == Path(n).name and n not in (".", "..")]
 
 
 def listed_folders(manifest: Path) -> list[str]:
     """Top-level folders a manifest lists files in (``openfoam`` for ``openfoam/0/U``): outputs
     written as a whole folder, such as a solver case."""
-    try:
-        data = json.loads(manifest.read_text(encoding="utf-8"))
-    except (OSError, ValueError):
-        return []
-    entries = data.get("files") if isinstance(data, dict) else None
-    out = []
-    for e in entries if isinstance(entries, list) else []:
-        name = e.get("name") if isinstance(e, dict) else None
-        parts = Path(name).parts if isinstance(name, str) else ()
-        if len(parts) > 1 and parts[0] not in (".", "..", "/") and not Path(name).is_absolute():
-            out.append(parts[0])
+    out = [Path(n).parts[0] for n in _listed_names(manifest)
+           if len(Path(n).parts) > 1 and Path(n).parts[0] not in (".", "..", "/") and not Path(n).is_absolute()]
     return list(dict.fromkeys(out))
 
 

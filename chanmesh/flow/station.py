@@ -46,7 +46,12 @@ class StationProblem:
 
 
 def station_problem(design: Design, at: Any, flow: FlowSpec, key: str = "--at") -> StationProblem:
-    frame = station_frame(design, at, key)
+    """The problem at station ``at`` of ``design`` (``key`` names the option in errors)."""
+    return problem_at(station_frame(design, at, key), flow)
+
+
+def problem_at(frame: StationFrame, flow: FlowSpec) -> StationProblem:
+    """The problem at a station already located: its exact section, signed radius and fluid."""
     o = frame.outline
     shape = SectionShape(o.u1 - o.u0, o.top0 - o.bottom, o.top1 - o.bottom)
     radius = None if math.isinf(frame.curvature_radius) else 1.0 / frame.curvature
@@ -86,9 +91,10 @@ def parse_range(key: str, text: str, area: float) -> list[float] | None:
     return [float(q) for q in np.linspace(lo, hi, count)]
 
 
-def solve_station(problem: StationProblem, rate: float, grid: SectionGrid | None = None) -> SectionFlow:
+def solve_station(problem: StationProblem, rate: float, grid: SectionGrid | None = None,
+                  estimate_error: bool | None = None) -> SectionFlow:
     return solve_section_flow(problem.shape, problem.radius, problem.fluid.density, problem.fluid.viscosity, rate,
-                              grid=grid)
+                              grid=grid, estimate_error=estimate_error)
 
 
 def solve_station_range(problem: StationProblem, rates: Sequence[float], grid: SectionGrid | None = None) -> list[SectionFlow]:

@@ -83,13 +83,20 @@ def sample_grid(frame: StationFrame, nu: int, nv: int | None = None) -> SampleGr
 
 def probe(result: ResultField, points: np.ndarray, tolerance: float | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Field values at ``points`` (m, 3) and a mask of points found inside a cell."""
+    arrays, valid = probe_arrays(result.grid, points, (result.name,), tolerance)
+    return arrays[result.name], valid
+
+
+def probe_arrays(grid: Any, points: np.ndarray, names: tuple[str, ...],
+                 tolerance: float | None = None) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """Arrays ``names`` of ``grid`` at ``points`` (m, 3), each (m, k), from one VTK probe, and
+    the mask of points found inside a cell."""
     import pyvista as pv
 
     cloud = pv.PolyData(np.asarray(points, float))
-    out = cloud.sample(result.grid, tolerance=tolerance, pass_cell_data=True, pass_point_data=True)
-    values = np.asarray(out.point_data[result.name], float).reshape(len(points), -1)
-    valid = np.asarray(out.point_data["vtkValidPointMask"]).astype(bool)
-    return values, valid
+    out = cloud.sample(grid, tolerance=tolerance, pass_cell_data=True, pass_point_data=True)
+    arrays = {n: np.asarray(out.point_data[n], float).reshape(len(points), -1) for n in names}
+    return arrays, np.asarray(out.point_data["vtkValidPointMask"]).astype(bool)
 
 
 def suggested_scale(result_size: float, design_size: float, scale: float) -> float | None:
@@ -284,7 +291,12 @@ def cut(result: ResultField, design: Design, frame: StationFrame, nu: int = 100,
     """Sample ``result`` on the section at ``frame`` and compute the figures of ``section.json``."""
     grid = sample_grid(frame, nu, nv)
     tol = 1e-3 * (frame.outline.u1 - frame.outline.u0)
-    values, valid = probe(result, probe_points(grid, frame), tolerance=tol)
+    transport = result.association == "cell" and abs(frame.curvature) > 0.0
+    names = (result.name, CELL_CENTRE) if transport else (result.name,)
+    if transport and CELL_CENTRE not in result.grid.cell_data:
+        result.grid.cell_data[CELL_CENTRE] = np.asarray(result.grid.cell_centers().points, float)
+    arrays, valid = probe_arrays(result.grid, probe_points(grid, frame), names, tolerance=tol)
+    values = arrays[result.name]
     fraction = float(valid.mean())
     if fraction < MIN_VALID:
         where = "none" if not valid.any() else f"only {fraction:.1%}"
@@ -299,8 +311,8 @@ def cut(result: ResultField, design: Design, frame: StationFrame, nu: int = 100,
             f"points at station {frame.label}; the solver diverged there or wrote no solution"
         )
     vel = np.where(valid[:, None], values, 0.0)
-    if result.association == "cell" and abs(frame.curvature) > 0.0:
-        vel = _cell_vectors_to_plane(result, grid, frame, vel, tol)
+    if transport:
+        vel = _cell_vectors_to_plane(frame, vel, np.where(valid[:, None], arrays[CELL_CENTRE], frame.point))
     vel = vel.reshape(*grid.shape, 3)
     w = vel @ frame.tangent
     a = vel @ frame.normal
@@ -314,9 +326,13 @@ def cut(result: ResultField, design: Design, frame: StationFrame, nu: int = 100,
     return c
 
 
-def _cell_vectors_to_plane(result: ResultField, grid: SampleGrid, frame: StationFrame, vel: np.ndarray,
-                           tol: float) -> np.ndarray:
-    """Cell-data vectors carried from each cell's centre onto the section plane, (m, 3).
+CELL_CENTRE = "chanmesh_cell_centre"
+"""Cell array added to a result's grid so one probe gives each sample point its cell's centre."""
+
+
+def _cell_vectors_to_plane(frame: StationFrame, vel: np.ndarray, centres: np.ndarray) -> np.ndarray:
+    """Cell-data vectors ``vel`` (m, 3), each belonging to the cell centre in ``centres`` (m, 3),
+    carried onto the section plane.
 
     A cell value belongs to the cell's centre, which lies a distance d off the plane; in a bend
     the streamwise direction there is turned by delta = atan(kappa d / (1 + kappa u)) about z. Read
@@ -325,11 +341,7 @@ def _cell_vectors_to_plane(result: ResultField, grid: SampleGrid, frame: Station
     therefore resolved in its cell centre's frame (t_c, n_c, z) and re-assembled in the plane's
     (t, n, z): the exact parallel transport about the bend's axis for an arc.
     """
-    centres_name = "chanmesh_cell_centre"
-    if centres_name not in result.grid.cell_data:
-        result.grid.cell_data[centres_name] = np.asarray(result.grid.cell_centers().points, float)
-    centres, found = probe(ResultField(result.grid, centres_name, "cell", result.source), probe_points(grid, frame), tol)
-    off = np.where(found[:, None], centres - frame.point, 0.0)
+    off = centres - frame.point
     d = off @ frame.tangent
     u = off @ frame.normal
     k = frame.curvature

@@ -18,7 +18,6 @@ from typing import Any
 import numpy as np
 
 from chanmesh.design.model import Design
-from chanmesh.geometry.stations import STRAIGHT_CURVATURE
 from chanmesh.post.cut import Cut
 
 SOURCE = ("chanmesh.flow.solve_section_flow: fully developed laminar flow of the section, exact toroidal "
@@ -42,15 +41,10 @@ def developed_reason(design: Design, c: Cut) -> str | None:
 
 def developed_flow(design: Design, c: Cut):  # type: ignore[no-untyped-def]
     """The fully developed ``SectionFlow`` at the cut's station and flow rate (see the module)."""
-    from chanmesh.flow import solve_section_flow
-    from chanmesh.geometry.section import section_shape_of
-    from chanmesh.numbers.fluid import fluid_of
+    from chanmesh.flow.station import problem_at, solve_station
 
-    fluid = fluid_of(design.flow)  # type: ignore[arg-type]
-    k = c.frame.curvature
-    radius = None if abs(k) < STRAIGHT_CURVATURE else 1.0 / k  # > 0: a left turn, the solver's sign too
-    return solve_section_flow(section_shape_of(design), radius, fluid.density, fluid.viscosity,
-                              float(c.figures["flow_rate_m3_s"]), estimate_error=False)
+    problem = problem_at(c.frame, design.flow)  # the station's section, signed radius (> 0: left turn), fluid
+    return solve_station(problem, float(c.figures["flow_rate_m3_s"]), estimate_error=False)
 
 
 def _rel(a: float, b: float) -> float | None:
