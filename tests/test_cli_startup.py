@@ -76,3 +76,29 @@ def test_sigint_at_any_moment_of_a_build_exits_130_with_one_line(tmp_path, delay
     assert "Traceback" not in err
     assert len(err.strip().splitlines()) == 1 and "interrupted" in err
     assert not (tmp_path / "o" / "manifest.json").exists()
+
+
+def test_an_interrupt_that_surfaces_as_another_exception_is_still_an_interrupt(capsys):
+    """A Ctrl-C inside a C extension's import reaches the command as e.g. scipy's
+    "ImportError: initialization failed" (seen on a build interrupted 1.15 s in): still exit
+    130 and the one line, no traceback. An exception with no Ctrl-C before it is not swallowed."""
+    import argparse
+
+    from chanmesh import cli
+
+    def interrupted_import(args):  # noqa: ANN001, ANN202
+        try:
+            cli._Interrupts.handler(2, None)
+        except KeyboardInterrupt:
+            raise ImportError("initialization failed") from None
+
+    args = argparse.Namespace(command="build", _run=interrupted_import)
+    assert cli._run(None, args) == 130
+    assert capsys.readouterr().err.strip() == "chanmesh build: interrupted; no partial output was left under a final name"
+
+    def plain_failure(args):  # noqa: ANN001, ANN202
+        raise ImportError("a real one")
+
+    cli._Interrupts.seen = False
+    with pytest.raises(ImportError):
+        cli._run(None, argparse.Namespace(command="build", _run=plain_failure))

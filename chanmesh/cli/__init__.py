@@ -10,7 +10,9 @@ modules at import time, and the heavy libraries (numpy, gmsh, pyvista, matplotli
 inside ``run`` (tests/test_cli_startup.py checks it). An interrupt while the command line is
 read and the command module imported ends the process at once with one line and 130 (nothing
 has been written yet); once the command runs, it raises ``KeyboardInterrupt`` so that staged
-output is cleaned up, and ``main`` turns it into the same line and 130.
+output is cleaned up, and ``main`` turns it into the same line and 130. A Ctrl-C that lands
+inside a C extension's import surfaces as some other exception (scipy's ``ImportError:
+initialization failed``); any exception after a Ctrl-C is reported as the interrupt it is.
 """
 
 from __future__ import annotations
@@ -29,6 +31,17 @@ from chanmesh.errors import ChanmeshError
 from chanmesh.interrupt import EXIT_INTERRUPT, quit_now
 
 EXIT_INPUT = 2
+
+
+class _Interrupts:
+    """SIGINT while a command runs: remember it, then raise ``KeyboardInterrupt`` as Python does."""
+
+    seen = False
+
+    @classmethod
+    def handler(cls, signum: int, frame: object) -> None:
+        cls.seen = True
+        raise KeyboardInterrupt
 
 
 def _commands() -> list[ModuleType]:
@@ -61,8 +74,19 @@ def main(argv: list[str] | None = None) -> int:
         parser = build_parser()
         args = parser.parse_args(argv)
         if in_main_thread:
-            signal.signal(signal.SIGINT, signal.default_int_handler)  # the command cleans up
-        return _run(parser, args)
+            _Interrupts.seen = False
+            signal.signal(signal.SIGINT, _Interrupts.handler)  # the command cleans up
+        code = _run(parser, args)
+        if code == EXIT_INTERRUPT and previous is quit_now:  # started as the command (interrupt.py)
+            # the clean-up is done and the line printed. Leave now, skipping interpreter
+            # teardown: a KeyboardInterrupt that passed through a C-level run of Python code
+            # (inside some library's import) makes CPython end the process by SIGINT at exit
+            # (status -2, not 130) even once caught, and a library left half-imported by the
+            # interrupt can abort the teardown (seen: "Fatal Python error ... finalizing", -6)
+            sys.stdout.flush()
+            sys.stderr.flush()
+            os._exit(code)
+        return code
     finally:
         if in_main_thread:
             signal.signal(signal.SIGINT, previous)
@@ -81,8 +105,16 @@ def _run(parser: argparse.ArgumentParser, args: argparse.Namespace) -> int:
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # no second error at exit
         return 0
     except KeyboardInterrupt:
-        print(f"chanmesh {args.command}: interrupted; no partial output was left under a final name", file=sys.stderr)
-        return EXIT_INTERRUPT
+        return _interrupted(args)
+    except Exception:
+        if _Interrupts.seen:  # the interrupt's doing, whatever form it took on the way up
+            return _interrupted(args)
+        raise
+
+
+def _interrupted(args: argparse.Namespace) -> int:
+    print(f"chanmesh {args.command}: interrupted; no partial output was left under a final name", file=sys.stderr)
+    return EXIT_INTERRUPT
 
 
 if __name__ == "__main__":  # pragma: no cover
