@@ -45,15 +45,15 @@ METRIC_WORDS: dict[str, str] = {
     "non_orthogonality": "non-orthogonality",
     "wall_cell": WALL_CELL,
     "core_cell": "core cell",
-    "cells": "cells",
 }
 """Quality and sizing key stems (manifest, ``chanmesh quality --json``) -> display words."""
 
-_SUFFIX_WORDS = {"min": "min", "mean": "mean", "max": "max", "high": "(height)", "m": "", "source": "source"}
+_SUFFIX_WORDS = {"min": "min", "mean": "mean", "max": "max", "high": "over the height", "m": "", "source": "source"}
 
 FORBIDDEN: tuple[tuple[str, str], ...] = (
-    (r"\b\d[\d,]* (?:hexahedron|tetrahedron|tetra|quad|triangle|wedge|hex|tet|tets|hexes)\b", "a count: use the plural"),
+    (r"(?<![\d,.])(?!1 )\d[\d,]* (?:hexahedron|tetrahedron|tetra|quad|triangle|wedge|hex|tet|tets|hexes)\b", "a count: use the plural"),
     (r"\btets\b|\bhexes\b", "write tetrahedra / hexahedra"),
+    (r"(?<!cells )(?<![\"'`.])\b(?:hex|tet)\b(?![\"'`])", "write hexahedra / tetrahedra (cells = \"hex\" only as the design key)"),
     (r"\bquads?\b", "write quadrilateral(s)"),
     (r"Scaled Jacobian|scaled jacobian|scaled_jacobian", "write scaled Jacobian"),
     (r"[Nn]on[ _]orthogonality|[Nn]onorthogonality|Non-orthogonality", "write non-orthogonality"),
@@ -76,12 +76,12 @@ def count_phrase(cell_counts: Mapping[str, int]) -> str:
 
 def metric_label(key: str) -> str:
     """A quality or sizing key in words: ``scaled_jacobian_min`` -> ``"scaled Jacobian min"``,
-    ``wall_cell_m`` -> ``"wall-adjacent cell"``; keys it does not know keep their spelling."""
+    ``wall_cell_m`` -> ``"wall-adjacent cell"``; other keys in words (``cells_high`` -> ``"cells high"``)."""
     for stem in sorted(METRIC_WORDS, key=len, reverse=True):
         if key == stem or key.startswith(stem + "_"):
             rest = [_SUFFIX_WORDS.get(p, p) for p in key[len(stem) + 1:].split("_") if p]
             return " ".join([METRIC_WORDS[stem], *(r for r in rest if r)])
-    return key
+    return key.replace("_", " ")
 
 
 def forbidden_in(text: str) -> list[str]:
