@@ -38,6 +38,8 @@ SLOW = 0.5
 """From the third iteration on, a full Newton update larger than this fraction of the previous
 one counts as divergence (Newton converging shrinks it far faster; from rest the first two
 updates are both about 1)."""
+STALL = 5
+"""Halvings in a row after which tangent continuation gives up for ``by_jumps``."""
 QUICK = 4
 """A continuation point that converged within this many iterations doubles the next step."""
 
@@ -76,15 +78,19 @@ class Counts:
     newton: int = 0
     factorisations: int = 0
     halvings: int = 0
+    jumped: bool = False
 
-    def as_dict(self) -> dict[str, int]:
+    def as_dict(self) -> dict[str, int | bool]:
         return {"continuation_steps": self.steps, "newton_iterations": self.newton,
-                "factorisations": self.factorisations, "step_halvings": self.halvings}
+                "factorisations": self.factorisations, "step_halvings": self.halvings,
+                "restarted_by_jumps": self.jumped}
 
 
-def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: np.ndarray, counts: Counts) -> Point:
+def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: np.ndarray, counts: Counts,
+           patient: bool = False) -> Point:
     """Bordered Newton (with chord steps near convergence) for (x, G) at flow rate ``q``;
-    raises ``Diverged``. ``counts`` is updated with iterations and factorisations."""
+    raises ``Diverged``. ``counts`` is updated with iterations and factorisations.
+    ``patient``: do not give up early (up to ``MAX_NEWTON`` iterations, for long jumps)."""
     from scipy.sparse.linalg import splu
 
     free = d.free
@@ -124,7 +130,7 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
         if chord:
             chord = size < CHORD_RATE * prev  # a slow chord step: refactor next time
         else:
-            if it >= 3 and size > SLOW * prev:  # Newton is not closing in: give up early
+            if not patient and it >= 3 and size > SLOW * prev:  # Newton is not closing in: give up early
                 raise Diverged
             chord = size < CHORD_BELOW
         prev = size
@@ -132,25 +138,53 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
 
 
 def continuation(d: Discrete, kappa: float, q_target: float, start: Point, counts: Counts,
-                 describe: Callable[[float, float], str]) -> Point:
-    """From the solution ``start`` to flow rate ``q_target``: predict along the tangent, halve
-    the step after a failure, double it after a quick convergence."""
+                 describe: Callable[[float, float], str], tangent: bool = True) -> Point:
+    """From the solution ``start`` to flow rate ``q_target``.
+
+    ``tangent``: predict along the tangent, halve the step after a failure, double it after a
+    quick convergence; give up (``FlowNotConverged``) after ``STALL`` halvings in a row (a fold of
+    the branch followed: on a grid not exactly symmetric about mid-height the symmetry-breaking
+    bifurcation of a square duct's two-cell flow, Winters 1987, becomes one). Else the state
+    scaled by the flow-rate ratio, doubling the step after every success, patient Newton."""
     load = eq.streamwise_load(d.tables)
-    done = start
+    done = start if tangent else Point(start.x, start.g, start.q)
     dq = q_target - start.q
+    in_a_row = 0
     while True:
         q_try = q_target if abs(dq) >= abs(q_target - done.q) else done.q + dq  # either direction
         x, g = done.predict(q_try)
         try:
-            point = newton(d, kappa, q_try, x, g, load, counts)
+            point = newton(d, kappa, q_try, x, g, load, counts, patient=not tangent)
         except Diverged:
             counts.halvings += 1
-            if counts.halvings > MAX_HALVINGS:
+            in_a_row += 1
+            if counts.halvings > MAX_HALVINGS or (tangent and in_a_row > STALL):
                 raise FlowNotConverged(describe(done.q, q_target)) from None
             dq = 0.5 * (q_try - done.q)
             continue
         counts.steps += 1
-        dq = (q_try - done.q) * (2.0 if point.iterations <= QUICK else 1.0)  # longer after a quick one
-        done = point
+        in_a_row = 0
+        quick = point.iterations <= QUICK or not tangent
+        dq = (q_try - done.q) * (2.0 if quick else 1.0)  # longer after a quick one
+        done = point if tangent else Point(point.x, point.g, point.q)
         if q_try == q_target:
-            return done
+            return point
+
+
+def by_jumps(d: Discrete, kappa: float, q_target: float, start: Point, counts: Counts,
+             describe: Callable[[float, float], str]) -> Point:
+    """The fallback when tangent continuation stalls: patient Newton from ``start`` (or from rest
+    at the target, else at 1/64 of it) and long jumps with the scaled state as first guess
+    (the solver's first method; it can step over a fold that the tangent cannot pass)."""
+    counts.jumped = True
+    counts.halvings = 0
+    load = eq.streamwise_load(d.tables)
+    if start.q <= 0:
+        try:
+            return newton(d, kappa, q_target, start.x, start.g, load, counts, patient=True)
+        except Diverged:
+            try:
+                start = newton(d, kappa, q_target / 64.0, start.x, start.g, load, counts, patient=True)
+            except Diverged:
+                raise FlowNotConverged(describe(0.0, q_target)) from None
+    return continuation(d, kappa, q_target, start, counts, describe, tangent=False)

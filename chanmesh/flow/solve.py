@@ -19,7 +19,7 @@ import numpy as np
 from chanmesh.errors import ChanmeshError
 from chanmesh.flow import equations as eq
 from chanmesh.flow.discrete import Discrete, discretise, solve_free
-from chanmesh.flow.newton import Counts, FlowNotConverged, Point, continuation
+from chanmesh.flow.newton import Counts, FlowNotConverged, Point, by_jumps, continuation
 from chanmesh.flow.grid import SectionGrid, default_grid, shape_of
 from chanmesh.flow.result import SectionFlow, find_vortices, neighbours, refine_extremum
 from chanmesh.numbers.regime import dean_number
@@ -94,7 +94,10 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
             and initial.state["kind"] == discretisation:
         start = _point_of(initial, scale_v, viscosity * scale_v / length**2, length)
     counts = Counts()
-    end = continuation(d, kappa, q_target, start, counts, describe)
+    try:
+        end = continuation(d, kappa, q_target, start, counts, describe)
+    except FlowNotConverged:
+        end = by_jumps(d, kappa, q_target, start, counts, describe)
     x, g = end.x, end.g
     info: dict[str, Any] = counts.as_dict()
     g_straight = _straight_gradient(d, q_target)
