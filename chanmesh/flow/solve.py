@@ -1,11 +1,8 @@
-"""Newton solve of fully developed flow in a bent (or straight) duct at a prescribed flow rate.
-
-The unknowns are the velocity and pressure of ``equations`` plus the driving gradient G; the
-flow-rate condition  int w dA = Q  is the extra equation (a bordered Newton system, solved by a
-sparse direct factorisation). Newton starts from rest (its first step is the Stokes solution) or
-from a given solution; when it fails, the flow rate is approached by continuation, halving the
-step after each failure. Dimensionless inside with the viscous velocity scale nu / L (L = D_h),
-so the continuation parameter is the dimensionless flow rate itself.
+"""Fully developed flow in a bent (or straight) duct at a prescribed flow rate: the problem set
+up in dimensionless form, solved by ``newton`` (bordered Newton, tangent continuation in the flow
+rate, a long-jump fallback), and the solution turned into a ``SectionFlow`` with its vortex cells
+and a Richardson error estimate. Dimensionless inside with the viscous velocity scale nu / L
+(L = D_h), so the continuation parameter is the dimensionless flow rate itself.
 """
 
 from __future__ import annotations
