@@ -40,6 +40,7 @@ from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
 from chanmesh.report.drawing_surface import DrawingSurface, drawing_surface, surface_groups  # noqa: E402
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
+from chanmesh.terms import count_phrase  # noqa: E402
 
 ENGINES = ("auto", "vtk", "mpl")
 WALL_EDGE = "#7D8A94"
@@ -252,10 +253,6 @@ def _equal_limits(ax, lo: np.ndarray, hi: np.ndarray, margin: float = 0.04) -> N
     ax.set_ylim(mid[1] - span[1] / 2, mid[1] + span[1] / 2)
 
 
-def _count_phrase(counts: dict[str, int]) -> str:
-    return ", ".join(f"{n:,} {t}" for t, n in counts.items())
-
-
 def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: int = 800, engine: str = "auto") -> bytes:
     """PNG of the mesh's surface groups at ``width`` x ``height`` px: the whole channel, a
     close-up of each port below it, a title and a legend."""
@@ -281,7 +278,7 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
                   f" (close-ups: every cell)" if surface.merged else "")
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
                  fontsize=13, color=INK, weight="bold")
-        fig.text(0.02, 1 - 40 / height, _count_phrase(mesh.cell_counts()) + merged, ha="left", va="top",
+        fig.text(0.02, 1 - 40 / height, count_phrase(mesh.cell_counts()) + merged, ha="left", va="top",
                  fontsize=10, color=INK)
         handles = [Patch(facecolor=colours[n], edgecolor=INK, linewidth=0.6, label=n) for n in surface.polygons]
         fig.legend(handles=handles, loc="upper right", frameon=True, fontsize=11, title="groups", title_fontsize=11,
