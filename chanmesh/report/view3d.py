@@ -159,6 +159,7 @@ def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dic
     p = surface.points
     screen = np.column_stack([p @ right, p @ up])
     depth = p @ view
+    see_through = any(n.startswith("section") for n in surface.polygons)
     polys: list[np.ndarray] = []
     faces, edge_colours, order = [], [], []
     for name, blocks in surface.polygons.items():
@@ -171,7 +172,9 @@ def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dic
             normal /= np.maximum(np.linalg.norm(normal, axis=1), 1e-300)[:, None]
             shade = 0.6 + 0.4 * np.abs(normal @ light)  # two-sided Lambert with ambient
             polys += list(screen[c])
-            faces.append(np.clip(base[None, :] * shade[:, None], 0.0, 1.0))
+            rgb = np.clip(base[None, :] * shade[:, None], 0.0, 1.0)
+            alpha = 0.45 if (name == "wall" and see_through) else 1.0  # internal sections show through
+            faces.append(np.column_stack([rgb, np.full(len(c), alpha)]))
             edge_colours.append(np.repeat(edge[None, :], len(c), axis=0))
             order.append(depth[c].mean(axis=1))
     back_to_front = np.argsort(np.concatenate(order), kind="stable")
