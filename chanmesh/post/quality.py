@@ -237,7 +237,12 @@ def _histograms(jac_counts: np.ndarray, ratios: np.ndarray, heights: np.ndarray)
     out = {"scaled_jacobian": {"edges": JACOBIAN_EDGES.tolist(), "counts": jac_counts.tolist()}}
     for name, values in (("aspect_ratio", ratios), ("wall_cell_m", heights)):
         if len(values):
-            counts, edges = np.histogram(values, 30)
+            try:
+                counts, edges = np.histogram(values, 30)
+            except ValueError:  # values a few ulps apart (a straight duct's wall cells): numpy
+                lo, hi = float(values.min()), float(values.max())  # cannot split that range in 30
+                pad = max(abs(lo), abs(hi), np.finfo(float).tiny) * 1e-6
+                counts, edges = np.histogram(values, 30, range=(lo - pad, hi + pad))
             out[name] = {"edges": edges.tolist(), "counts": counts.tolist()}
     return out
 
