@@ -169,7 +169,7 @@ def compare(design, work: Path, case: Path, args: argparse.Namespace, cells, t_m
     print(f"MINI on the mesh's own {args.cells_across}x{args.cells_high} section grid: secondary max "
           f"{same.secondary_max * 1e3:.4g} mm/s, mean {same.secondary_mean * 1e3:.4g} mm/s")
     for v in fig.get("vortices", [])[:4]:
-        print(f"  3D vortex u = {v['u_m'] * 1e6:+.1f} um, z = {v['v_m'] * 1e6:+.1f} um, {v['sense']}")
+        print(f"  3D vortex u = {v['u_m'] * 1e6:+.1f} um, z = {v['z_m'] * 1e6:+.1f} um, {v['sense']}")
     for v in fine.vortices:
         print(f"  dean vortex u = {v['centre_u_m'] * 1e6:+.1f} um, z = {v['centre_z_m'] * 1e6:+.1f} um, {v['sense']}")
     print(f"De = {fine.dean:.3g}, Re = {fine.reynolds:.3g}")

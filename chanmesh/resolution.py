@@ -32,6 +32,7 @@ import numpy as np
 from chanmesh.design.model import Design
 from chanmesh.errors import ChanmeshError
 from chanmesh.meshing.model import ChannelMesh
+from chanmesh.terms import count_phrase
 
 DEFAULT_REYNOLDS = 50.0
 """Operating point when the design gives no flow rate or velocity: Re = rho U D_h / mu = 50
@@ -119,7 +120,7 @@ def mesh_section_grid(design: Design, mesh: ChannelMesh) -> Any:
     xyz = mesh.points[used]
     uz = np.column_stack([(xyz - p0) @ n0, xyz[:, 2]])
     kind = "quadrilateral" if cells.shape[1] == 4 else "triangle"
-    return SectionGrid(uz, local.reshape(cells.shape), None, f"the mesh's inlet face: {len(cells)} {kind}s")
+    return SectionGrid(uz, local.reshape(cells.shape), None, f"the mesh's inlet face: {count_phrase({'quad' if width == 4 else 'triangle': len(cells)})}")
 
 
 def plan_section_grid(design: Design, scale: float = 1.0) -> Any:
@@ -286,5 +287,5 @@ def summary_lines(record: dict[str, Any]) -> list[str]:
     if record["warning"]:
         worst = max(e, key=lambda k: abs(e[k]))
         lines.append(f"warning: this mesh misses the developed section flow by {abs(e[worst]):.0%} ({worst.replace('_', ' ')}); "
-                     "refine the core (cells_high, cells_across) or the wall cell (first_cell): docs/resolution.md")
+                     "refine the core (cells_high, cells_across) or the wall-adjacent cell (first_cell): docs/resolution.md")
     return lines

@@ -50,7 +50,7 @@ def ratio_for_first_cell(length: float, n: int, first: float) -> float:
     ``DesignError`` on ``mesh.first_cell`` (the only key that asks for a first cell)."""
     uniform = length / n
     if first > uniform * (1 + 1e-12):
-        raise ValueError(f"first cell {first:g} is longer than the uniform cell {uniform:g}")
+        raise ValueError(f"wall-adjacent cell {first:g} is longer than the uniform cell {uniform:g}")
     if abs(first - uniform) <= 1e-12 * uniform or n <= 2:
         return 1.0
     smallest = first_cell(length, n, MAX_RATIO)
@@ -58,7 +58,7 @@ def ratio_for_first_cell(length: float, n: int, first: float) -> float:
         raise DesignError(
             "mesh.first_cell", Shown(f"{first * 1e6:.4g} um"),
             f"is too small for {n} cells over {length * 1e6:.4g} um: it needs a growth ratio above "
-            f"{MAX_RATIO:g} (smallest reachable first cell {smallest * 1e6:.3g} um); give a larger first_cell or more cells",
+            f"{MAX_RATIO:g} (smallest reachable wall-adjacent cell {smallest * 1e6:.3g} um); give a larger first_cell or more cells",
         )
     return float(brentq(lambda g: first_cell(length, n, g) - first, 1.0 + 1e-12, MAX_RATIO, xtol=1e-14, rtol=1e-14))
 

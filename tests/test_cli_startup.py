@@ -102,3 +102,25 @@ def test_an_interrupt_that_surfaces_as_another_exception_is_still_an_interrupt(c
     cli._Interrupts.seen = False
     with pytest.raises(ImportError):
         cli._run(None, argparse.Namespace(command="build", _run=plain_failure))
+
+
+def test_an_interrupt_after_the_command_returned_still_exits_130(capsys, monkeypatch):
+    """A Ctrl-C that lands after the command's own clean-up (the output complete) but before
+    the command line has restored the start-up handler: exit 130 and the one line, never an
+    uncaught KeyboardInterrupt (which makes Python end the process by SIGINT, status -2).
+    130: POSIX shell convention (IEEE Std 1003.1, 2.8.2)."""
+    from chanmesh import cli
+
+    def finished_then_interrupted(parser, args):  # noqa: ANN001, ANN202
+        raise KeyboardInterrupt  # as the handler does when SIGINT arrives at that moment
+
+    monkeypatch.setattr(cli, "_run", finished_then_interrupted)
+    assert cli.main(["numbers", "x.toml"]) == 130
+    assert capsys.readouterr().err.strip().endswith("interrupted; no partial output was left under a final name")
+
+    def finished_with_an_interrupt_swallowed(parser, args):  # noqa: ANN001, ANN202
+        cli._Interrupts.seen = True  # a library caught the KeyboardInterrupt and went on
+        return 0
+
+    monkeypatch.setattr(cli, "_run", finished_with_an_interrupt_swallowed)
+    assert cli.main(["numbers", "x.toml"]) == 130

@@ -92,9 +92,9 @@ def test_synthetic_duct_flow_and_vortices(arc_case):
     u_c = (0.5 ** (2 / 3) - 0.5) * W
     for v in vort:
         assert v["u_m"] == pytest.approx(u_c, abs=0.025 * W)  # measured 1.3 % of W
-        assert abs(v["v_m"]) == pytest.approx(0.25 * H, abs=0.01 * H)  # measured 0.2 % of H
+        assert abs(v["z_m"]) == pytest.approx(0.25 * H, abs=0.01 * H)  # measured 0.2 % of H
         # A < 0: lower cell clockwise, upper counter-clockwise looking downstream
-        assert v["sense"] == ("counter-clockwise" if v["v_m"] > 0 else "clockwise")
+        assert v["sense"] == ("counter-clockwise" if v["z_m"] > 0 else "clockwise")
     # centring: both zero to round-off
     assert f["centring"]["grid_centroid_to_centreline_point_m"] < 1e-15
     assert f["centring"]["plane_normal_to_tangent_rad"] < 1e-12

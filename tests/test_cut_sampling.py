@@ -156,11 +156,11 @@ def test_vortices_are_interior_and_shared_by_every_output(setup, capsys):
     vort = data["figures"]["vortices"]
     assert len(vort) == 8
     assert text.count("  vortex ") == 6 and "and 2 more in section.json" in text
-    got = sorted((round((v["u_m"] / W + 0.5) * 8), round((v["v_m"] / H + 0.5) * 4)) for v in vort)
+    got = sorted((round((v["u_m"] / W + 0.5) * 8), round((v["z_m"] / H + 0.5) * 4)) for v in vort)
     assert got == sorted((i, j) for i in (1, 3, 5, 7) for j in (1, 3))
     for v in vort:
         assert (v["u_m"] / W + 0.5) * 8 == pytest.approx(round((v["u_m"] / W + 0.5) * 8), abs=0.02)
-        assert (v["v_m"] / H + 0.5) * 4 == pytest.approx(round((v["v_m"] / H + 0.5) * 4), abs=0.02)
+        assert (v["z_m"] / H + 0.5) * 4 == pytest.approx(round((v["z_m"] / H + 0.5) * 4), abs=0.02)
 
 
 def test_two_cells_on_cell_data_give_two_interior_centres(setup):
@@ -184,5 +184,5 @@ def test_two_cells_on_cell_data_give_two_interior_centres(setup):
     assert len(vort) == 2
     for v in vort:
         assert v["u_m"] == pytest.approx((XI0 - 0.5) * W, abs=0.03 * W)
-        assert abs(v["v_m"]) == pytest.approx(0.25 * H, abs=0.05 * H)
-        assert v["sense"] == ("counter-clockwise" if v["v_m"] > 0 else "clockwise")
+        assert abs(v["z_m"]) == pytest.approx(0.25 * H, abs=0.05 * H)
+        assert v["sense"] == ("counter-clockwise" if v["z_m"] > 0 else "clockwise")

@@ -43,8 +43,10 @@ def test_curved_square_duct_friction_ratio():
     """Friction ratio f_curved / f_straight of a square duct at R / D_h = 100 rises with the Dean
     number K = Re sqrt(D_h / R): about 1.18 at K = 50 and 1.37 at K = 100 (Cheng, Lin & Ou 1976,
     J. Fluids Eng. 98, 41-48, fully developed curved square duct, values from memory, not checked
-    against the paper: tolerance 8 %). Two counter-rotating cells on this branch (Winters 1987,
-    J. Fluid Mech. 180, 343-369: the two-cell branch is the one reached by continuation from rest)."""
+    against the paper: its table was not found by the project's search in December 2026;
+    tolerance 8 %). Two counter-rotating cells on this branch (Winters 1987, J. Fluid Mech. 180,
+    343-369, abstract: the two-cell flow is the primary branch and the only stable one; the
+    four-cell flows lie on other branches)."""
     radius = 100 * A
     grid = default_grid(SQUARE, 10, 10)
     low = solve_section_flow(SQUARE, radius, RHO, MU, _flow_at(500.0), grid=grid)

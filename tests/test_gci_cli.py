@@ -156,3 +156,37 @@ def test_divergent_column_is_flagged_not_fatal(tmp_path):
     assert main(["gci", str(csv_path)]) == 0
     rows = list(csv.DictReader((tmp_path / "out" / "gci" / "gci.csv").open()))
     assert rows[0]["convergence"] == "divergent" and rows[0]["gci_fine"] == ""
+
+
+def test_plot_shows_h_in_micrometres_and_is_readable(tmp_path):
+    """Issue 15 item 20: h in µm on the x axis (values converted from metres), a picture at least
+    900 px wide with no text below 11 pt (common practice, no source), the quantity in the title."""
+    from matplotlib.text import Text
+
+    from chanmesh.post.gci import gci_study
+    from chanmesh.post.gci_io import gci_figure
+    from chanmesh.post.gci_table import load_study
+
+    csv_path = write(tmp_path / "RESULTS.csv", "level,cells,q\n1,8000,1.0\n2,1000,1.1\n3,125,1.5\n")
+    table = load_study(csv_path, dim=3, extent=8e-9)
+    fig = gci_figure(gci_study(table)[0], table)
+    ax = fig.axes[0]
+    assert "µm" in ax.get_xlabel()
+    # (V/N)^(1/3) = (8e-9 m^3 / 8000)^(1/3) = 1e-4 m = 100 µm; 1000 -> 200 µm; 125 -> 400 µm (arithmetic)
+    assert ax.lines[0].get_xdata() == pytest.approx([100.0, 200.0, 400.0], rel=1e-12)
+    fig.canvas.draw()
+    ticks = [t.get_position()[0] for t in ax.get_xticklabels() if t.get_text()]
+    assert max(ticks) >= 400.0 and min(ticks) <= 0.0  # ticks span 0 .. 400 µm, not 0 .. 4e-4 m
+    width, height = fig.get_size_inches() * fig.dpi
+    assert width >= 900 and height >= 500
+    sizes = [t.get_fontsize() for t in fig.findobj(Text) if t.get_text()]
+    assert sizes and min(sizes) >= 11
+    assert "q" in ax.get_title()
+    # the file written by the command has that size too
+    assert main(["gci", str(csv_path), "--volume", "8e-9", "--out", str(tmp_path / "o")]) == 0
+    from PIL import Image
+
+    assert Image.open(tmp_path / "o" / "gci-q.png").size[0] >= 900
+    # without a volume, h is relative: the label says so instead of claiming a unit
+    rel = load_study(csv_path, dim=3)
+    assert "no unit" in gci_figure(gci_study(rel)[0], rel).axes[0].get_xlabel()

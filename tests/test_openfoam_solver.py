@@ -129,5 +129,5 @@ def test_cut_reads_the_solved_case(hex_runs, grid, tmp_path):
     assert len(vortices) == 2, vortices
     senses = {v["sense"] for v in vortices}
     assert senses == {"clockwise", "counter-clockwise"}
-    heights = sorted(v["v_m"] for v in vortices)
+    heights = sorted(v["z_m"] for v in vortices)
     assert heights[0] < 0 < heights[1]

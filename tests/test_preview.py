@@ -71,6 +71,16 @@ def arc_mesh(arc):
     return mesher_for(arc).mesh(arc)
 
 
+@pytest.fixture(scope="module")
+def fine_arc():
+    return loads_design(ARC.replace("cells_across = 4", "cells_across = 10"))
+
+
+@pytest.fixture(scope="module")
+def fine_arc_mesh(fine_arc):
+    return mesher_for(fine_arc).mesh(fine_arc)
+
+
 @pytest.mark.parametrize("size", [(900, 640), (1600, 1200)])
 def test_plan_view_channel_covers_the_plan_area(arc, size):
     """The channel's fill colour covers the footprint worked by hand, w L with
@@ -174,16 +184,111 @@ def test_preview_command_refuses_a_bad_size(tmp_path, capsys):
     assert not list(tmp_path.glob("*.png"))
 
 
-def test_auto_engine_falls_back_to_matplotlib_without_opengl(arc, arc_mesh, monkeypatch):
+def test_auto_engine_needs_no_opengl(arc, arc_mesh, monkeypatch):
     import chanmesh.report.view3d as view3d
 
     def no_gl(*args, **kwargs):
         raise RenderUnavailable("no OpenGL context (simulated)")
 
     monkeypatch.setattr(view3d, "_plotter", no_gl)
-    monkeypatch.setattr(view3d, "AUTO_LIMIT", 0)  # make auto choose VTK first
     img = _image(mesh_picture(arc_mesh, arc, 640, 480, engine="auto"))
     assert img.shape == (480, 640, 3)
     _not_blank(img)
     with pytest.raises(RenderUnavailable):
         mesh_picture(arc_mesh, arc, 640, 480, engine="vtk")
+
+
+def _surface_area(surface) -> float:
+    from chanmesh.report.drawing_surface import _facet_areas
+
+    return sum(float(_facet_areas(surface.points, c).sum()) for blocks in surface.polygons.values() for c in blocks)
+
+
+def test_merged_drawing_surface_keeps_the_shape_and_every_group(fine_arc_mesh, monkeypatch):
+    import chanmesh.report.drawing_surface as ds
+    from chanmesh.report.drawing_surface import drawing_surface
+
+    monkeypatch.setattr(ds, "FEW", 40)  # a small mesh: let the wall merge well below its size
+    whole = drawing_surface(fine_arc_mesh, 10**9, 1e3)
+    assert not whole.merged and whole.facets == whole.facets_in_mesh
+    limit = whole.facets // 3
+    assert limit > 2 * ds.FEW
+    merged = drawing_surface(fine_arc_mesh, limit, 1e3)
+    assert merged.merged and 0 < merged.facets <= limit + ds.FEW * len(whole.polygons)
+    for name, blocks in merged.polygons.items():  # each group within its share, or FEW
+        mine = sum(len(c) for c in whole.polygons[name])
+        assert sum(len(c) for c in blocks) <= max(limit * mine // whole.facets, min(mine, ds.FEW))
+    assert set(merged.polygons) == set(whole.polygons)  # no group merged away, ports included
+    # the surface keeps its area and its extent: each cluster is drawn at one of its own nodes,
+    # corners and edges first, so the outline stays put and the area within 2 % (our tolerance)
+    assert _surface_area(merged) == pytest.approx(_surface_area(whole), rel=0.02)
+    used = np.unique(np.concatenate([c.ravel() for b in merged.polygons.values() for c in b]))
+    assert np.allclose(merged.points[used].min(axis=0), whole.points.min(axis=0), atol=1e-12)
+    assert np.allclose(merged.points[used].max(axis=0), whole.points.max(axis=0), atol=1e-12)
+
+
+def test_cell_edges_are_drawn_on_a_merged_surface(fine_arc, fine_arc_mesh, monkeypatch):
+    import chanmesh.report.drawing_surface as ds
+    import chanmesh.report.view3d as view3d
+
+    facets = sum(len(b.cells) for b in fine_arc_mesh.facets)
+    monkeypatch.setattr(view3d, "DRAW_LIMIT", facets // 5)
+    monkeypatch.setattr(ds, "FEW", 40)
+    with_edges = _image(mesh_picture(fine_arc_mesh, fine_arc, 800, 600, engine="mpl"))
+    monkeypatch.setattr(view3d, "WALL_EDGE", WALL)  # the same picture with the wall's edges hidden
+    without = _image(mesh_picture(fine_arc_mesh, fine_arc, 800, 600, engine="mpl"))
+    main = slice(60, int(0.69 * 600))  # the main view, above the close-ups
+    changed = np.any(np.abs(with_edges[main] - without[main]) > 20, axis=2)
+    assert changed.sum() > 1000  # the merged wall's cell edges are drawn, not dropped
+
+
+def test_every_port_gets_a_close_up_that_faces_the_camera(arc, arc_mesh):
+    from chanmesh.report.view3d import closeup_surface, port_names
+
+    ports = port_names(arc_mesh)
+    assert ports == ["inlet", "outlet_1", "outlet_2"]
+    for port in ports:
+        surface, view = closeup_surface(arc_mesh, arc, port)
+        assert port in surface.polygons and not surface.merged
+        # every facet of the port is in its close-up, and the port's face turns toward the camera
+        assert sum(len(c) for c in surface.polygons[port]) == sum(len(b.cells) for b in arc_mesh.facets_of(port))
+        p = surface.points
+        normals = np.concatenate([np.cross(p[c][:, 2] - p[c][:, 0], p[c][:, -1] - p[c][:, 1])
+                                  for c in surface.polygons[port]])
+        facing = np.sign(normals @ view)
+        assert abs(facing.sum()) == len(facing)  # all one way: the face is seen whole, from one side
+        # seen from outside: the camera lies beyond the port's face, away from the channel it closes
+        ends = p[np.unique(np.concatenate([c.ravel() for c in surface.polygons[port]]))].mean(axis=0)
+        channel = p[np.unique(np.concatenate([c.ravel() for c in surface.polygons["wall"]]))].mean(axis=0)
+        assert (ends - channel) @ view > 0
+
+
+def test_close_up_leaves_out_a_neighbouring_turn():
+    from chanmesh.report.view3d import closeup_surface
+
+    spiral = loads_design("""
+name = "pic-spiral"
+unit = "um"
+[section]
+width = 100
+height = 40
+[path]
+kind = "spiral"
+inner_radius = 400
+pitch = 160
+turns = 1.5
+inlet_length = 100
+outlet_length = 100
+[mesh]
+cells_across = 3
+""")
+    mesh = mesher_for(spiral).mesh(spiral)
+    surface, _ = closeup_surface(mesh, spiral, "inlet")
+    used = np.unique(np.concatenate([c.ravel() for b in surface.polygons.values() for c in b]))
+    centre = surface.points[np.unique(np.concatenate([c.ravel() for c in surface.polygons["inlet"]]))].mean(axis=0)
+    radius = np.hypot(*(surface.points[used][:, :2] - surface.points[used][:, :2].mean(axis=0)).T)
+    # the next turn lies a pitch (0.16 mm) out, inside the 1.6-section reach (0.16 mm) of the inlet's
+    # centre on one side; only the inlet's own stretch of channel is drawn: every node within
+    # half a width plus the reach of the inlet centre
+    assert np.all(np.linalg.norm(surface.points[used] - centre, axis=1) <= 0.05 + 0.16 + 0.07)
+    assert radius.max() < 1.0

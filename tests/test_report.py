@@ -103,7 +103,7 @@ def test_quality_histograms_are_drawn_from_the_build_manifest(built):
     assert sum(quality["histograms"]["scaled_jacobian"]["counts"]) == built.mesh.n_volume_cells
     text = report_html(loads_design(DESIGN), built.mesh, built.manifest, [])
     assert len(re.findall(r"<img ", text)) == 2 + 3 + 2  # plan, 3D view, three histograms, resolution
-    assert "scaled jacobian min" in text
+    assert "scaled Jacobian min" in text
 
 
 def test_a_manifest_without_quality_says_so(built):

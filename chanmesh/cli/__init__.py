@@ -76,7 +76,14 @@ def main(argv: list[str] | None = None) -> int:
         if in_main_thread:
             _Interrupts.seen = False
             signal.signal(signal.SIGINT, _Interrupts.handler)  # the command cleans up
-        code = _run(parser, args)
+        try:
+            code = _run(parser, args)
+            if in_main_thread:  # from here on a Ctrl-C finds nothing to clean up
+                signal.signal(signal.SIGINT, previous)
+        except KeyboardInterrupt:  # arrived after the command's own handling, before the line above
+            code = _interrupted(args)
+        if _Interrupts.seen and code == 0:  # the work finished, but the user did press Ctrl-C
+            code = _interrupted(args)
         if code == EXIT_INTERRUPT and previous is quit_now:  # started as the command (interrupt.py)
             # the clean-up is done and the line printed. Leave now, skipping interpreter
             # teardown: a KeyboardInterrupt that passed through a C-level run of Python code
@@ -86,6 +93,12 @@ def main(argv: list[str] | None = None) -> int:
             sys.stdout.flush()
             sys.stderr.flush()
             os._exit(code)
+        if previous is quit_now:
+            # the command is done and its status known; Python's own teardown puts back the
+            # default SIGINT action, which would kill the process (status -2) for a Ctrl-C in
+            # the last moments. An ignored SIGINT stays ignored through teardown.
+            signal.signal(signal.SIGINT, signal.SIG_IGN)
+            previous = signal.SIG_IGN
         return code
     finally:
         if in_main_thread:

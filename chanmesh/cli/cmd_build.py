@@ -8,6 +8,7 @@ from pathlib import Path
 
 from typing import TYPE_CHECKING
 
+from chanmesh.terms import count_phrase
 from chanmesh.units import parse_length
 from chanmesh.writers import DEFAULT_FORMATS, FORMATS, WriteOptions
 
@@ -89,7 +90,7 @@ def run(args: argparse.Namespace) -> int:
     result = build(design, out, formats=args.format, options=write_options(args), clock=clock)
     if not args.quiet:
         m = result.manifest
-        counts = ", ".join(f"{n:,} {t}" for t, n in m["cells"].items())
+        counts = count_phrase(m["cells"])
         print(f"{design.name}: {counts} -> {result.folder}")
         for g in m["groups"]:
             err = f"  (analytic {g['relative_error']:+.2e})" if "relative_error" in g else ""

@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
           + (f" ({ratio:.3g} of the mean streamwise speed)" if ratio is not None else " (no net streamwise flow)"))
     vortices = f["vortices"]
     for k, v in enumerate(vortices[:SHOWN_VORTICES], start=1):
-        print(f"  vortex {k}: u = {v['u_m'] * 1e6:+.2f} um, z = {v['v_m'] * 1e6:+.2f} um, {v['sense']} (looking downstream)")
+        print(f"  vortex {k}: u = {v['u_m'] * 1e6:+.2f} um, z = {v['z_m'] * 1e6:+.2f} um, {v['sense']} (looking downstream)")
     if len(vortices) > SHOWN_VORTICES:
         print(f"  ... and {len(vortices) - SHOWN_VORTICES} more in section.json (and section.png)")
     if not vortices:
@@ -108,7 +108,7 @@ def developed(design, c, title: str, skip: bool) -> tuple[dict[str, bytes], str]
         v = pair["developed"]
         where = (f"the result's nearest {v['sense']} centre is {pair['distance_m'] * 1e6:.2f} um away"
                  if pair["cut"] is not None else f"no {v['sense']} centre in the result")
-        lines.append(f"    developed vortex {k}: u = {v['u_m'] * 1e6:+.2f} um, z = {v['v_m'] * 1e6:+.2f} um, "
+        lines.append(f"    developed vortex {k}: u = {v['u_m'] * 1e6:+.2f} um, z = {v['z_m'] * 1e6:+.2f} um, "
                      f"{v['sense']}; {where}")
     lines.append("    picture: section_vs_developed.png")
     png = render_comparison_png(c, sf, title)

@@ -5,8 +5,10 @@ from __future__ import annotations
 import argparse
 import json
 
+from chanmesh.terms import count_phrase
+
 NAME = "quality"
-HELP = "print the quality figures (scaled Jacobian, aspect ratio, non-orthogonality, wall cell) of a mesh file"
+HELP = "print the quality figures (scaled Jacobian, aspect ratio, non-orthogonality, wall-adjacent cell) of a mesh file"
 ORDER = 40
 
 
@@ -24,7 +26,7 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(q.as_dict(), indent=2))
         return 0
-    counts = ", ".join(f"{n:,} {t}" for t, n in mesh.cell_counts().items())
+    counts = count_phrase(mesh.cell_counts())
     print(f"{args.mesh}: {counts}")
     print(f"  scaled Jacobian      min {q.scaled_jacobian_min:.4f}   mean {q.scaled_jacobian_mean:.4f}   (1 ideal, <= 0 inverted)")
     print(f"  aspect ratio         max {q.aspect_ratio_max:.3g}   (longest / shortest edge of a cell)")

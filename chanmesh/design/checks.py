@@ -327,13 +327,13 @@ def _check_mesh(design: Design) -> None:
                 "mesh.first_cell",
                 _fmt(design, m.first_cell),
                 f"must be at most the core cell ({_fmt(design, core)} = the smaller of width / cells_across "
-                "and height / cells_high): the wall cell grows toward the core, never shrinks",
+                "and height / cells_high): the wall-adjacent cell grows toward the core, never shrinks",
             )
         if m.first_cell < core * MIN_FIRST_CELL:
             raise DesignError(
                 "mesh.first_cell",
                 _fmt(design, m.first_cell),
-                f"must be at least {MIN_FIRST_CELL:g} of the core cell ({_fmt(design, core)}): a smaller wall cell "
+                f"must be at least {MIN_FIRST_CELL:g} of the core cell ({_fmt(design, core)}): a smaller wall-adjacent cell "
                 "needs dozens of wall layers (raise first_cell, or refine the core with cells_across / cells_high)",
             )
     if m.cells_along is not None and not 1 <= m.cells_along <= 10_000_000:

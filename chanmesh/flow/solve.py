@@ -1,11 +1,8 @@
-"""Newton solve of fully developed flow in a bent (or straight) duct at a prescribed flow rate.
-
-The unknowns are the velocity and pressure of ``equations`` plus the driving gradient G; the
-flow-rate condition  int w dA = Q  is the extra equation (a bordered Newton system, solved by a
-sparse direct factorisation). Newton starts from rest (its first step is the Stokes solution) or
-from a given solution; when it fails, the flow rate is approached by continuation, halving the
-step after each failure. Dimensionless inside with the viscous velocity scale nu / L (L = D_h),
-so the continuation parameter is the dimensionless flow rate itself.
+"""Fully developed flow in a bent (or straight) duct at a prescribed flow rate: the problem set
+up in dimensionless form, solved by ``newton`` (bordered Newton, tangent continuation in the flow
+rate, a long-jump fallback), and the solution turned into a ``SectionFlow`` with its vortex cells
+and a Richardson error estimate. Dimensionless inside with the viscous velocity scale nu / L
+(L = D_h), so the continuation parameter is the dimensionless flow rate itself.
 """
 
 from __future__ import annotations
@@ -19,84 +16,17 @@ import numpy as np
 from chanmesh.errors import ChanmeshError
 from chanmesh.flow import equations as eq
 from chanmesh.flow.discrete import Discrete, discretise, solve_free
+from chanmesh.flow.newton import Counts, FlowNotConverged, Point, by_jumps, continuation
 from chanmesh.flow.grid import SectionGrid, default_grid, shape_of
 from chanmesh.flow.result import SectionFlow, find_vortices, neighbours, refine_extremum
 from chanmesh.numbers.regime import dean_number
 
-MAX_NEWTON = 25
-NEWTON_TOL = 1e-10  # relative size of the last Newton update
-MAX_HALVINGS = 14
 PSI_FLOOR = 1e-9
 """No vortex cells are reported when max |psi| is below this fraction of U D_h (a still section)."""
 ORDER_ASSUMED = 2.0
 """Convergence order assumed by the Richardson error estimate. Measured on three grids
 (tests/test_flow_reference.py): 2.9 for the mean secondary speed, above 5 for dp/ds; the nodal
 maxima converge irregularly (sampled at nodes), so 2 is the cautious choice."""
-
-
-class FlowNotConverged(ChanmeshError):
-    """Newton failed even with continuation; the message names the flow and Dean number reached."""
-
-
-def _newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: np.ndarray) -> tuple[np.ndarray, float, int]:
-    """Bordered Newton iteration for (x, G) at dimensionless flow rate ``q``; raises on failure.
-
-    Each step solves  J dx - m dG = -F,  m . (x + dx) = q  by one sparse LU of J and two
-    back-substitutions (m: the streamwise load, the column of G)."""
-    from scipy.sparse.linalg import splu
-
-    free = d.free
-    m = load[free]
-    for it in range(1, MAX_NEWTON + 1):
-        res = eq.residual(d.tables, kappa, x, g)
-        mat = eq.jacobian(d.tables, kappa, x)[free][:, free].tocsc()
-        try:
-            lu = splu(mat, diag_pivot_thresh=0.01)
-        except RuntimeError:  # exactly singular
-            raise _Diverged from None
-        y1 = lu.solve(-res[free])
-        y2 = lu.solve(m)
-        dg = (q - load @ x - m @ y1) / (m @ y2)
-        step = y1 + dg * y2
-        if not (np.all(np.isfinite(step)) and math.isfinite(dg)):
-            raise _Diverged
-        x = x.copy()
-        x[free] += step
-        g += float(dg)
-        size = float(np.max(np.abs(step))) / max(1.0, float(np.max(np.abs(x))))
-        if not math.isfinite(size) or size > 1e6:
-            raise _Diverged
-        if size < NEWTON_TOL:
-            return x, g, it
-    raise _Diverged
-
-
-class _Diverged(Exception):
-    pass
-
-
-def _continue(d: Discrete, kappa: float, q_target: float, x: np.ndarray, g: float, q_start: float,
-              describe: Any) -> tuple[np.ndarray, float, dict[str, Any]]:
-    """From a solution at ``q_start`` to ``q_target``, halving the step after each failure."""
-    load = eq.streamwise_load(d.tables)
-    q_done, q_try = q_start, q_target
-    steps, newton, halvings = 0, 0, 0
-    while True:
-        scale = q_try / q_done if q_done > 0 else 1.0
-        try:
-            x1, g1, its = _newton(d, kappa, q_try, x * scale, g * scale, load)
-        except _Diverged:
-            halvings += 1
-            if halvings > MAX_HALVINGS:
-                raise FlowNotConverged(describe(q_done, q_target)) from None
-            q_try = q_done + 0.5 * (q_try - q_done)
-            continue
-        steps += 1
-        newton += its
-        x, g, q_prev, q_done = x1, g1, q_done, q_try
-        if q_done >= q_target * (1 - 1e-14):
-            return x, g, {"continuation_steps": steps, "newton_iterations": newton, "step_halvings": halvings}
-        q_try = min(q_target, q_done + 2.0 * (q_done - q_prev))
 
 
 def _straight_gradient(d: Discrete, q: float) -> float:
@@ -156,36 +86,42 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
                 + (f" (De = {de_of(q_want):.4g})" if radius is not None else "")
                 + "; the fully developed state may not exist or be unstable there: try a lower flow or a finer grid")
 
-    x0, g0, q0 = np.zeros(d.size), 0.0, 0.0
+    start = Point(np.zeros(d.size), 0.0, 0.0)  # rest: Newton's first step is the Stokes solution
     if initial is not None and initial.state is not None and initial.state["n"] == d.size \
             and initial.state["kind"] == discretisation:
-        x0 = initial.state["x"] / scale_v
-        g0 = initial.state["g"] / (viscosity * scale_v / length**2)
-        q0 = initial.flow_rate / (scale_v * length**2)
-    if q0 > 0:
-        x, g, info = _continue(d, kappa, q_target, x0, g0, q0, describe)
-    else:
-        # Newton from rest: its first step is the Stokes solution at the target flow rate
-        try:
-            x, g, its = _newton(d, kappa, q_target, x0, 0.0, eq.streamwise_load(d.tables))
-            info = {"continuation_steps": 1, "newton_iterations": its, "step_halvings": 0}
-        except _Diverged:
-            q_small = q_target / 64.0
-            x, g, its = _newton(d, kappa, q_small, x0, 0.0, eq.streamwise_load(d.tables))
-            x, g, info = _continue(d, kappa, q_target, x, g, q_small, describe)
-            info["newton_iterations"] += its
+        start = _point_of(initial, scale_v, viscosity * scale_v / length**2, length)
+    counts = Counts()
+    try:
+        end = continuation(d, kappa, q_target, start, counts, describe)
+    except FlowNotConverged:
+        end = by_jumps(d, kappa, q_target, start, counts, describe)
+    x, g = end.x, end.g
+    info: dict[str, Any] = counts.as_dict()
     g_straight = _straight_gradient(d, q_target)
     flow = _assemble_result(d, shape, radius, density, viscosity, flow_rate, kappa, x, g, g_straight,
-                            scale_v, re, grid, discretisation)
+                            scale_v, re, grid, discretisation, end)
     info["solve_seconds"] = time.perf_counter() - t0
     info["method"] = ("bordered Newton on (velocity, pressure, G) with the flow-rate condition as the extra "
-                      "equation (one sparse LU per step, SuperLU); continuation in the flow rate")
+                      "equation (sparse LU, SuperLU; chord steps near convergence); continuation in the flow "
+                      "rate along the tangent")
     error = None
     if estimate_error is None:
         estimate_error = discretisation == "reference" and made_default
     if estimate_error:
         error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation)
     return _replace(flow, solver=info, error=error)
+
+
+def _point_of(flow: SectionFlow, scale_v: float, g_scale: float, length: float) -> Point:
+    """A continuation start from an earlier solution's state (SI) in this solve's scales."""
+    st = flow.state
+    per_q = scale_v * length**2
+    q = flow.flow_rate / per_q
+    dx = st.get("dx_dq")
+    dg = st.get("dg_dq")
+    if dx is None or dg is None:
+        return Point(st["x"] / scale_v, st["g"] / g_scale, q)
+    return Point(st["x"] / scale_v, st["g"] / g_scale, q, dx * per_q / scale_v, dg * per_q / g_scale)
 
 
 def _replace(flow: SectionFlow, **changes: Any) -> SectionFlow:
@@ -196,7 +132,7 @@ def _replace(flow: SectionFlow, **changes: Any) -> SectionFlow:
 
 def _assemble_result(d: Discrete, shape: Any, radius: float | None, density: float, viscosity: float, flow_rate: float,
                      kappa: float, x: np.ndarray, g: float, g_straight: float, scale_v: float, re: float,
-                     grid: SectionGrid, discretisation: str) -> SectionFlow:
+                     grid: SectionGrid, discretisation: str, tangent: Point | None = None) -> SectionFlow:
     L = d.length
     nv = d.scalar.N
     un, wt, uz = x[:nv], x[nv:2 * nv], x[2 * nv:3 * nv]
@@ -216,6 +152,10 @@ def _assemble_result(d: Discrete, shape: Any, radius: float | None, density: flo
     vortices = find_vortices(pts, d.out_triangles, psi, boundary, floor=PSI_FLOOR * u_mean * L)
     de = None if radius is None else dean_number(re, L, abs(radius))
     state = {"x": x * scale_v, "g": g * g_scale, "n": d.size, "kind": discretisation}
+    if tangent is not None and tangent.dx is not None and tangent.dg is not None:
+        per_q = scale_v * L**2  # m^3/s per dimensionless flow rate
+        state["dx_dq"] = tangent.dx * scale_v / per_q
+        state["dg_dq"] = tangent.dg * g_scale / per_q
     grid_info = {**grid.to_dict(), "element": "P2-P1 Taylor-Hood" if discretisation == "reference" else "MINI (P1+bubble)-P1",
                  "velocity_nodes": int(len(nodes))}
     return SectionFlow(

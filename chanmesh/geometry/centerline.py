@@ -6,7 +6,7 @@ swept meshes and analytic checks share one exact description.
 
 Frame convention (used everywhere in chanmesh): tangent ``t``; in-plane normal
 ``n = t x z`` (the right-hand side looking downstream); ``z`` up. A section point at local
-coordinates ``(u, v)`` sits at ``p(s) + u n(s) + v z``. For arcs and spirals, which turn
+coordinates ``(u, z)`` sits at ``p(s) + u n(s) + z z``. For arcs and spirals, which turn
 counter-clockwise, ``n`` points away from the centre of curvature, so ``u = -w/2`` is the
 inner wall and ``u = +w/2`` the outer wall.
 """

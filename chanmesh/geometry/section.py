@@ -47,7 +47,7 @@ class SectionShape:
 
     @property
     def corners(self) -> np.ndarray:
-        """(4, 2) corners (u, v), counter-clockwise from inner-bottom."""
+        """(4, 2) corners (u, z), counter-clockwise from inner-bottom."""
         w2 = 0.5 * self.width
         b = self.bottom
         return np.array([[-w2, b], [w2, b], [w2, b + self.h_outer], [-w2, b + self.h_inner]])
@@ -69,8 +69,8 @@ class SectionShape:
 
     @property
     def centroid(self) -> tuple[float, float]:
-        """(u_c, v_c). For parallel vertical sides a = h_inner, b = h_outer (handbook trapezoid):
-        u_c = w (b - a) / (6 (a + b)),  v_c = bottom + (a^2 + a b + b^2) / (3 (a + b))."""
+        """(u_c, z_c). For parallel vertical sides a = h_inner, b = h_outer (handbook trapezoid):
+        u_c = w (b - a) / (6 (a + b)),  z_c = bottom + (a^2 + a b + b^2) / (3 (a + b))."""
         a, b, w = self.h_inner, self.h_outer, self.width
         u_c = w * (b - a) / (6.0 * (a + b))
         v_c = self.bottom + (a * a + a * b + b * b) / (3.0 * (a + b))

@@ -175,7 +175,7 @@ class Outline:
 
     @property
     def corners(self) -> np.ndarray:
-        """(4, 2) corners (u, v), counter-clockwise from (u0, bottom)."""
+        """(4, 2) corners (u, z), counter-clockwise from (u0, bottom)."""
         return np.array([[self.u0, self.bottom], [self.u1, self.bottom], [self.u1, self.top1], [self.u0, self.top0]])
 
     @property

@@ -28,7 +28,7 @@ SPLINE_POINTS_PER_TURN = 240
 
 def section_face(line: Centerline, shape: SectionShape | Outline, s: float) -> int:
     """Plane surface of the cross-section at arc length s (model units); ``shape`` gives the
-    (u, v) corners, the channel's ``SectionShape`` or a station's exact ``Outline``."""
+    (u, z) corners, the channel's ``SectionShape`` or a station's exact ``Outline``."""
     p = line.points(np.array([s]))[0]
     n = line.normals(np.array([s]))[0]
     occ = gmsh.model.occ

@@ -31,7 +31,7 @@ def hex_breakdown(design: Design, scale: float = 1.0) -> tuple[str, int, int, in
     wall_a = _wall_layers(plan.u[plan.band[0]:plan.band[1] + 1], g.h_core)
     wall_h = _wall_layers(plan.eta * H, g.h_core_high or g.h_core)
     return (f"{ni} across ({wall_a} of them wall layers) x {nj} high ({wall_h} wall layers) x {nk} along; "
-            f"core cell {g.h_core * 1e6:.3g} x {(g.h_core_high or g.h_core) * 1e6:.3g} um, wall cell "
+            f"core cell {g.h_core * 1e6:.3g} x {(g.h_core_high or g.h_core) * 1e6:.3g} um, wall-adjacent cell "
             f"{g.h_wall * 1e6:.3g} um, growth {g.ratio:.3g}"), wall_a + wall_h, ni + nj - wall_a - wall_h, nk
 
 
@@ -44,7 +44,7 @@ def _tet_breakdown(design: Design, scale: float) -> tuple[str, float]:
     core_only = size_grid(design, Grading(g.h_core_min, 1.0, g.h_core, g.h_core_high)).estimate_tets()
     share = max(0.0, 1.0 - core_only / full) if full > 0 else 0.0
     text = (f"core cell {g.h_core_min * 1e6:.3g} um gives {core_only:,.0f} of them, the wall layers "
-            f"(wall cell {g.h_wall * 1e6:.3g} um, growth {g.ratio:.3g}) the rest")
+            f"(wall-adjacent cell {g.h_wall * 1e6:.3g} um, growth {g.ratio:.3g}) the rest")
     return text, share
 
 

@@ -150,7 +150,7 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     mesh = tag_section_layers(mesh, design, mesh_station_arc_lengths(design))
     mesh.info.update(
         {
-            "mesher": "hex (structured sweep, numpy)",
+            "mesher": "hexahedra (structured sweep, numpy)",
             "cells_along": nk, "cells_across": ni, "cells_high": nj,
             "wall_cell": float(plan.u[plan.band[0] + 1] - plan.u[plan.band[0]]),
             "wall_cell_high": plan.first_high,

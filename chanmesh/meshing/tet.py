@@ -84,7 +84,7 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
         mesh = extract_mesh()
     mesh.info.update(
         {
-            "mesher": "tet (gmsh OpenCASCADE + HXT)",
+            "mesher": "tetrahedra (gmsh OpenCASCADE + HXT)",
             "gmsh_version": gmsh.__version__,
             "wall_cell": grading.h_wall,
             "core_cell": grading.h_core_min,

@@ -156,7 +156,7 @@ class Cut:
     velocity: np.ndarray  # (nv, nu, 3) global components
     streamwise: np.ndarray  # along t
     sec_n: np.ndarray  # along n (u direction)
-    sec_z: np.ndarray  # along z (v direction)
+    sec_z: np.ndarray  # along z (the section's height)
     psi: np.ndarray  # in-plane stream function, m^2/s
     valid_fraction: float
     figures: dict[str, Any] = field(default_factory=dict)
@@ -206,7 +206,7 @@ def stream_function(grid: SampleGrid, a: np.ndarray, b: np.ndarray) -> np.ndarra
 
 
 def refined_max(grid: SampleGrid, f: np.ndarray) -> tuple[float, float, float]:
-    """(value, u, v) of the maximum of ``f`` refined between samples: a parabola through the
+    """(value, u, z) of the maximum of ``f`` refined between samples: a parabola through the
     largest sample and its two neighbours along each grid direction (where both exist), the
     two gains added. Unbiased for a peak between samples, exact for a quadratic peak."""
     j, i = np.unravel_index(int(np.argmax(f)), f.shape)
@@ -262,7 +262,7 @@ def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame, floor
             u, v = _fit_peak(grid, sign * psi, mask & (sign * psi >= (1.0 - PEAK_PATCH) * ext))
             x = frame.point + u * frame.normal + v * Z
             out.append({
-                "u_m": u, "v_m": v, "point_m": x.tolist(), "psi_m2_s": sign * ext,
+                "u_m": u, "z_m": v, "point_m": x.tolist(), "psi_m2_s": sign * ext,
                 "sense": "counter-clockwise" if sign > 0 else "clockwise",
                 "strength": ext / peak,
             })
@@ -270,7 +270,7 @@ def vortex_centres(grid: SampleGrid, psi: np.ndarray, frame: StationFrame, floor
 
 
 def _fit_peak(grid: SampleGrid, f: np.ndarray, patch: np.ndarray) -> tuple[float, float]:
-    """(u, v) of the vertex of a least-squares quadratic through f on ``patch`` (f has its maximum there)."""
+    """(u, z) of the vertex of a least-squares quadratic through f on ``patch`` (f has its maximum there)."""
     uu, vv, ff = grid.uu[patch], grid.vv[patch], f[patch]
     best = int(np.argmax(ff))
     if len(ff) >= 6:

@@ -56,7 +56,7 @@ def compare(c: Cut, sf: Any) -> dict[str, Any]:  # sf: chanmesh.flow.SectionFlow
     nearest distance (each developed centre to the 3D centre of its sense closest to it)."""
     f = c.figures
     width = c.frame.outline.u1 - c.frame.outline.u0
-    dev_vortices = [{"u_m": float(v["centre_u_m"]), "v_m": float(v["centre_z_m"]), "sense": v["sense"]}
+    dev_vortices = [{"u_m": float(v["centre_u_m"]), "z_m": float(v["centre_z_m"]), "sense": v["sense"]}
                     for v in sf.vortices]
     pairs = []
     for v in dev_vortices:
@@ -64,9 +64,9 @@ def compare(c: Cut, sf: Any) -> dict[str, Any]:  # sf: chanmesh.flow.SectionFlow
         if not same:
             pairs.append({"developed": v, "cut": None, "distance_m": None})
             continue
-        w = min(same, key=lambda w: math.hypot(w["u_m"] - v["u_m"], w["v_m"] - v["v_m"]))
-        d = math.hypot(w["u_m"] - v["u_m"], w["v_m"] - v["v_m"])
-        pairs.append({"developed": v, "cut": {"u_m": w["u_m"], "v_m": w["v_m"]}, "distance_m": d,
+        w = min(same, key=lambda w: math.hypot(w["u_m"] - v["u_m"], w["z_m"] - v["z_m"]))
+        d = math.hypot(w["u_m"] - v["u_m"], w["z_m"] - v["z_m"])
+        pairs.append({"developed": v, "cut": {"u_m": w["u_m"], "z_m": w["z_m"]}, "distance_m": d,
                       "distance_over_width": d / width})
     return {
         "source": SOURCE,
@@ -117,7 +117,7 @@ def render_comparison_png(c: Cut, sf: Any, title: str) -> bytes:
     dev_z = mtri.LinearTriInterpolator(tri, sf.secondary_z)(au, av)
     scale = top / (0.9 * step_u * width / len(g.u))
     panels = (
-        (axes[0], "3D result at the station", c.figures.get("vortices", []), "u_m", "v_m",
+        (axes[0], "3D result at the station", c.figures.get("vortices", []), "u_m", "z_m",
          lambda ax: ax.contourf(g.uu * um, g.vv * um, c.secondary_speed, levels=levels, cmap="magma", extend="max"),
          (c.sec_n[sl], c.sec_z[sl]), c.figures["secondary_max_m_s"], c.figures["secondary_mean_m_s"]),
         (axes[1], "fully developed (chanmesh.flow)", sf.vortices, "centre_u_m", "centre_z_m",

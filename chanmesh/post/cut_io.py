@@ -22,7 +22,7 @@ from chanmesh.safeio import StagedOutput
 
 NAMES = ("section.csv", "section.vtu", "section.png", "section.json")
 CSV_COLUMNS = (
-    "u_m", "v_m", "x_m", "y_m", "z_m", "weight_m2", "streamwise_m_s", "secondary_n_m_s", "secondary_z_m_s",
+    "u_m", "x_m", "y_m", "z_m", "weight_m2", "streamwise_m_s", "secondary_u_m_s", "secondary_z_m_s",
     "secondary_speed_m_s", "ux_m_s", "uy_m_s", "uz_m_s", "psi_m2_s",
 )
 CAUTIONS = [
@@ -35,7 +35,8 @@ CAUTIONS = [
 
 def csv_text(c: Cut) -> str:
     g = c.grid
-    cols = [g.uu, g.vv, *(g.points[:, k].reshape(g.shape) for k in range(3)), g.weights, c.streamwise, c.sec_n,
+    # (u, z) of the section: z is the global z (the centreline lies in z = 0), so one column holds both
+    cols = [g.uu, *(g.points[:, k].reshape(g.shape) for k in range(3)), g.weights, c.streamwise, c.sec_n,
             c.sec_z, c.secondary_speed, *(c.velocity[..., k] for k in range(3)), c.psi]
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")

@@ -90,9 +90,9 @@ def render_png(c: Cut, title: str) -> bytes:
         ax.plot([u, u], [o.bottom * um, float(o.top(u / um)) * um], color="firebrick", linewidth=3.0)
     for k, vx in enumerate(c.figures.get("vortices", [])):  # the list section.json has, all of it
         ccw = vx["sense"] == "counter-clockwise"
-        ax.plot(vx["u_m"] * um, vx["v_m"] * um, marker="o", markersize=7, markerfacecolor="none",
+        ax.plot(vx["u_m"] * um, vx["z_m"] * um, marker="o", markersize=7, markerfacecolor="none",
                 markeredgecolor="orange", markeredgewidth=2)
-        ax.annotate(("CCW" if ccw else "CW") + f" {k + 1}", (vx["u_m"] * um, vx["v_m"] * um), xytext=(6, 6),
+        ax.annotate(("CCW" if ccw else "CW") + f" {k + 1}", (vx["u_m"] * um, vx["z_m"] * um), xytext=(6, 6),
                     textcoords="offset points", color="orange", fontsize=8, fontweight="bold")
     ax.set_aspect("equal")
     pad = 0.08 * width

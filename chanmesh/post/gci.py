@@ -311,12 +311,15 @@ def gci_quantity(
 @dataclass(frozen=True)
 class StudyTable:
     """A convergence study: levels (1 = finest), representative size h per level, and the
-    values of each quantity of interest. ``h_note`` says where h came from."""
+    values of each quantity of interest. ``h_note`` says where h came from; ``h_unit`` is
+    ``"m"`` (family.json, or cell counts with --volume/--area), ``"relative"`` ((1/N)^(1/dim),
+    no unit) or ``"as given"`` (the CSV's own h column)."""
 
     levels: tuple[int, ...]
     h: tuple[float, ...]
     quantities: dict[str, tuple[float, ...]]
     h_note: str = "h"
+    h_unit: str = "as given"
 
 
 def gci_study(table: StudyTable, order: float = 2.0) -> tuple[QuantityReport, ...]:

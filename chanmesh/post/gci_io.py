@@ -50,7 +50,9 @@ def format_report(table: StudyTable, reports: Sequence[QuantityReport]) -> str:
     """The screen table: one block per quantity, one column per triple (or the two-grid pair)."""
     out = io.StringIO()
     out.write(f"Grid convergence (Celik et al. 2008; two grids: Roache 1994). {table.h_note}\n")
-    out.write("levels " + ", ".join(f"{lv}: h = {h:.6g}" for lv, h in zip(table.levels, table.h)) + "\n")
+    scale, _ = h_scale(table)
+    unit = " um" if table.h_unit == "m" else ""  # the terminal spells units in ASCII, as `numbers` does
+    out.write("levels " + ", ".join(f"{lv}: h = {h * scale:.6g}{unit}" for lv, h in zip(table.levels, table.h)) + "\n")
     for rep in reports:
         out.write(f"\n{rep.name}\n")
         cols: list[TripleResult | TwoGridResult] = list(rep.triples) or [rep.two_grid]  # type: ignore[list-item]
@@ -136,17 +138,35 @@ def _write_csv(fh: Any, reports: Sequence[QuantityReport]) -> None:
                              (repr(v) if isinstance(v, float) else v)) for k, v in row.items()})
 
 
-def _plot(fh: Any, rep: QuantityReport, h_note: str) -> None:
+FIGURE_PX = (1000, 640)
+"""GCI picture size in pixels (at 100 dpi): wide enough to read on a report page."""
+FONT_PT = 12
+"""Base font size of the GCI picture (ticks, legend and level numbers; labels and title larger)."""
+
+
+def h_scale(table: StudyTable) -> tuple[float, str]:
+    """(factor, axis label) that show the table's h: metres as µm, other sizes as they are."""
+    if table.h_unit == "m":
+        return 1e6, "representative cell size h (µm)"
+    if table.h_unit == "relative":
+        return 1.0, "relative cell size h = (1/N)^(1/dim), no unit (give --volume or --area for µm)"
+    return 1.0, "representative cell size h (unit of the CSV's h column)"
+
+
+def gci_figure(rep: QuantityReport, table: StudyTable) -> Any:
+    """The quantity against h (µm when h is in metres), the fitted or Richardson curve, the
+    extrapolated value at h = 0 and the fine-grid GCI band; a matplotlib ``Figure``."""
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(6.0, 4.2), dpi=110)
+    fig = Figure(figsize=(FIGURE_PX[0] / 100, FIGURE_PX[1] / 100), dpi=100)
     FigureCanvasAgg(fig)  # off-screen rendering; no display needed
     ax = fig.add_subplot()
+    scale, xlabel = h_scale(table)
     h, phi = np.asarray(rep.h), np.asarray(rep.phi)
-    ax.plot(h, phi, "o-", color="#1f5a8c", label="levels")
-    for lv, x, y in zip(rep.levels, h, phi):
-        ax.annotate(str(lv), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
+    ax.plot(h * scale, phi, "o-", color="#1f5a8c", ms=7, label="levels (1 = finest)")
+    for lv, x, y in zip(rep.levels, h * scale, phi):
+        ax.annotate(str(lv), (x, y), textcoords="offset points", xytext=(5, 5), fontsize=FONT_PT)
     head = rep.headline
     ext, p = head.phi_ext21, (head.p if isinstance(head, TripleResult) else head.p_assumed)
     if rep.fit is not None and math.isfinite(rep.fit.p):
@@ -157,20 +177,22 @@ def _plot(fh: Any, rep: QuantityReport, h_note: str) -> None:
     if math.isfinite(ext) and math.isfinite(p):
         hs = np.linspace(0.0, float(h.max()), 200)
         c = (phi[0] - ext) / h[0] ** p
-        ax.plot(hs, ext + c * hs**p, "--", color="#8c8c8c", lw=1, label=label)
+        ax.plot(hs * scale, ext + c * hs**p, "--", color="#8c8c8c", lw=1.2, label=label)
     if math.isfinite(ext):
-        ax.plot([0.0], [ext], marker="*", ms=14, color="#c0392b", ls="none", label=f"extrapolated {ext:.6g}")
+        ax.plot([0.0], [ext], marker="*", ms=16, color="#c0392b", ls="none", label=f"extrapolated {ext:.6g}")
     if math.isfinite(head.band_fine):
-        ax.errorbar([h[0]], [phi[0]], yerr=[head.band_fine], fmt="none", ecolor="#c0392b", capsize=4,
+        ax.errorbar([h[0] * scale], [phi[0]], yerr=[head.band_fine], fmt="none", ecolor="#c0392b", capsize=5,
                     label=f"GCI fine {_pct(head.gci_fine)}")
-    ax.set_xlim(-0.04 * float(h.max()), 1.05 * float(h.max()))  # room for the star at h = 0
-    ax.set_xlabel(f"h   [{h_note}]")
-    ax.set_ylabel(rep.name)
-    ax.set_title(f"{rep.name}: {head.convergence}")
+    top = float(h.max()) * scale
+    ax.set_xlim(-0.04 * top, 1.05 * top)  # room for the star at h = 0
+    ax.set_xlabel(xlabel, fontsize=FONT_PT + 1)
+    ax.set_ylabel(rep.name, fontsize=FONT_PT + 1)
+    ax.set_title(f"{rep.name} against cell size h: {head.convergence} (Celik et al. 2008)", fontsize=FONT_PT + 2)
+    ax.tick_params(labelsize=FONT_PT)
     ax.grid(True, alpha=0.3)
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=FONT_PT)
     fig.tight_layout()
-    fig.savefig(fh, format="png")
+    return fig
 
 
 def write_report(out_dir: Path, table: StudyTable, reports: Sequence[QuantityReport]) -> list[Path]:
@@ -190,7 +212,7 @@ def write_report(out_dir: Path, table: StudyTable, reports: Sequence[QuantityRep
         used.add(stem)
         png = out_dir / f"{stem}.png"
         picture = io.BytesIO()
-        _plot(picture, rep, table.h_note)
+        gci_figure(rep, table).savefig(picture, format="png")
         atomic_write_bytes(png, picture.getvalue())
         paths.append(png)
     return paths

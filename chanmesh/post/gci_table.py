@@ -147,17 +147,17 @@ def load_study(
             if cells is not None and fam_cells is not None and fam_cells != cells[i]:
                 raise StudyError(f"{name} row {i + 2}, column 'cells'", cells[i],
                                  f"must match family.json level {lv} ({fam_cells:g} cells)")
-        note = f"h from {family / 'family.json'} (m)"
+        note, unit = f"h from {family / 'family.json'} (m)", "m"
     elif "h" in columns:
         h = [_number(f"{name} row {i + 2}, column 'h'", t) for i, t in enumerate(columns["h"])]
         for i, v in enumerate(h):
             if v <= 0:
                 raise StudyError(f"{name} row {i + 2}, column 'h'", v, "must be a positive cell size")
-        note = "h from the CSV"
+        note, unit = "h from the CSV", "as given"
     elif cells is not None:
         h = [size_from_cells(c, dim, extent) for c in cells]
         what = "relative size (1/N)" if extent is None else ("(V/N)" if dim == 3 else "(A/N)")
-        note = f"h = {what}^(1/{dim}) from cell counts"
+        note, unit = f"h = {what}^(1/{dim}) from cell counts", ("relative" if extent is None else "m")
     else:
         raise StudyError(f"{name} header", list(columns), "needs a 'cells' or 'h' column, or --family DIR")
     values = {q: [_number(f"{name} row {i + 2}, column {q!r}", t) for i, t in enumerate(columns[q])] for q in quantities}
@@ -169,4 +169,4 @@ def load_study(
                              "(1 = finest)")
     return StudyTable(
         levels=tuple(levels[i] for i in order), h=tuple(h[i] for i in order),
-        quantities={q: tuple(values[q][i] for i in order) for q in quantities}, h_note=note)
+        quantities={q: tuple(values[q][i] for i in order) for q in quantities}, h_note=note, h_unit=unit)

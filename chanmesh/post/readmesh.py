@@ -84,7 +84,7 @@ def read_mesh_file(path: str | Path) -> ChannelMesh:
         (vols if dim == 3 else facs).append(Block(block.type, block.data, t.astype(np.int64)))
     if not vols:
         raise MeshFileError(
-            f"mesh file '{p}' holds no volume cells (tetra, hexahedron or wedge); found {[b.type for b in m.cells]}"
+            f"mesh file '{p}' holds no volume cells (tetrahedra, hexahedra or wedges); found {[b.type for b in m.cells]}"
         )
     groups: dict[int, Group] = {}
     for dim, blocks in ((3, vols), (2, facs)):

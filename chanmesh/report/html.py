@@ -24,6 +24,7 @@ from chanmesh.report.charts import histogram_of, histogram_png
 from chanmesh.report.palette import INK, INLET, WALL
 from chanmesh.report.plan_view import plan_picture
 from chanmesh.report.view3d import mesh_picture
+from chanmesh.terms import cell_word, metric_label
 
 REPORT = "report.html"
 
@@ -168,15 +169,16 @@ def _quality_section(manifest: dict[str, Any]) -> str:
         hist = histogram_of(entry)
         if hist is not None:
             edges, counts = hist
+            label = metric_label(name)
             if name.endswith("_m"):
-                name, edges = f"{name[:-2]} (µm)", edges * 1e6
-            charts.append(_img(histogram_png(name, edges, counts), f"histogram of {name}"))
+                label, edges = f"{label} (µm)", edges * 1e6
+            charts.append(_img(histogram_png(label, edges, counts), f"histogram of {label}"))
     summary = []
     for name, v in quality.items():
         if isinstance(v, (int, float)) and not isinstance(v, bool):
             length = name.startswith("wall_cell")
             unit = "µm" if length else ("deg" if name.startswith("non_orthogonality") else "")
-            summary.append([name.replace("_", " "), _num(v * 1e6 if length else v, 4), unit])
+            summary.append([metric_label(name), _num(v * 1e6 if length else v, 4), unit])
     out = f'<div class="charts">{"".join(charts)}</div>' if charts else ""
     if summary:
         out += _table(["figure", "value", "unit"], summary)
@@ -263,7 +265,7 @@ def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, A
     where = (f"{op['flow_rate_mL_min']:.4g} mL/min ({html.escape(op['source'])}), Re {record['reynolds']:.3g}, "
              + (f"De {de:.3g} at the tightest bend, R = {abs(record['radius_m']) * 1e3:.4g} mm" if de else "straight duct"))
     warn = ('<p class="caution">This mesh misses the developed section flow by more than 10 %: refine the core '
-            "(cells_high, cells_across) or the wall cell (first_cell).</p>") if record.get("warning") else ""
+            "(cells_high, cells_across) or the wall-adjacent cell (first_cell).</p>") if record.get("warning") else ""
     return "\n".join([
         f'<p class="note">Fully developed flow of the channel\'s own section at {where}, solved on this mesh\'s '
         "section grid (its inlet face; velocity on the mesh's own nodes) and on a converged reference. Errors "
@@ -278,14 +280,19 @@ def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, A
     ])
 
 
+def _is_length(key: str) -> bool:
+    """A mesher figure in metres: the wall-adjacent and core cells (``wall_cell``, ``wall_cell_high``, ``core_cell``…)."""
+    return key.startswith(("wall_cell", "core_cell"))
+
+
 def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> str:
     """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used)."""
     plan = plan_picture(design, 1100, 720).png
     view = mesh_picture(mesh, design, 1100, 720)
-    cells = [[t, n] for t, n in manifest["cells"].items()] + [["points", manifest["points"]]]
+    cells = [[cell_word(t, n), n] for t, n in manifest["cells"].items()] + [["points", manifest["points"]]]
     info = manifest.get("mesher", {})
     mesher_rows = [
-        [k, v * 1e6, "µm"] if k.endswith("_cell") and isinstance(v, float) else [k, v, ""]
+        [metric_label(k), v * 1e6, "µm"] if _is_length(k) and isinstance(v, float) else [metric_label(k), v, ""]
         for k, v in info.items()
         if isinstance(v, (int, float, str)) and not isinstance(v, bool)
     ]

@@ -21,6 +21,7 @@ from matplotlib.tri import LinearTriInterpolator, Triangulation  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.section import section_shape_of  # noqa: E402
 from chanmesh.report.palette import INK, PAPER, WALL  # noqa: E402
+from chanmesh.terms import count_phrase  # noqa: E402
 
 UM = 1e6
 
@@ -72,8 +73,8 @@ def section_mesh_png(design: Design, grid: Any, radius: float | None, width: int
     ax.set_xlabel("u (µm), looking downstream")
     ax.set_ylabel("z (µm)")
     _label_walls(ax, design, radius)
-    kind = "quadrilaterals" if cells.shape[1] == 4 else "triangles"
-    ax.set_title(f"section mesh (the inlet face): {len(cells):,} {kind}, {len(pts):,} nodes", color=INK, pad=18)
+    kind = "quad" if cells.shape[1] == 4 else "triangle"
+    ax.set_title(f"section mesh (the inlet face): {count_phrase({kind: len(cells)})}, {len(pts):,} nodes", color=INK, pad=18)
     return _png(fig)
 
 

@@ -1,16 +1,24 @@
-"""A 3D picture of a built mesh: each boundary or section group in its own colour, with a legend.
+"""A 3D picture of a built mesh: each boundary or section group in its own colour, with a
+legend, and a close-up of every inlet and outlet below it.
 
-Two engines draw the same view (true proportions, parallel projection, the camera 35 degrees
-above the plan on the side where the inlet and outlet faces can both be seen):
+The main view is in true proportions, parallel projection, the camera 35 degrees above the
+plan on the side where the inlet and outlet faces can both be seen. In a spiral or a
+serpentine one port still faces away or is a few pixels wide, so each port also gets a
+close-up of its end of the channel, seen from outside, with every cell edge drawn.
 
+Cell edges are drawn at every size: a large mesh's surface is drawn merged
+(``drawing_surface``: vertex clustering, at most ``DRAW_LIMIT`` facets), which keeps the
+picture readable and its cost bounded; the subtitle says when it is.
+
+Two engines draw the main view:
+
+* ``"mpl"`` (and ``"auto"``): our own orthographic projection drawn by matplotlib's Agg as
+  flat-shaded polygons sorted back to front (painter's algorithm; exact for a closed shell of
+  small facets): no OpenGL needed, used in every build's report;
 * ``"vtk"``: VTK through pyvista, off-screen (EGL with the system's Mesa libraries; no
-  display), with a depth buffer: the most faithful picture, used by ``chanmesh preview``;
-* ``"mpl"``: our own orthographic projection drawn by matplotlib's Agg as flat-shaded
-  polygons sorted back to front (painter's algorithm; exact for a closed shell of small
-  facets): no OpenGL needed and about ten times quicker to start, used in every build's report.
+  display), with a depth buffer.
 
-Both are framed by matplotlib with a title and a legend. Cell edges are drawn on small meshes,
-where they show the grading, and left out on large ones, where they would only darken it.
+The close-ups are always drawn with matplotlib.
 """
 
 from __future__ import annotations
@@ -30,15 +38,19 @@ from matplotlib.patches import Patch  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
+from chanmesh.report.drawing_surface import DrawingSurface, drawing_surface, surface_groups  # noqa: E402
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
+from chanmesh.terms import count_phrase  # noqa: E402
 
 ENGINES = ("auto", "vtk", "mpl")
-AUTO_LIMIT = 100_000
-"""Facets up to which ``engine="auto"`` draws with matplotlib (quicker to start); VTK above."""
 WALL_EDGE = "#7D8A94"
 
-EDGE_LIMIT = 60_000
-"""Facets up to which cell edges are drawn."""
+DRAW_LIMIT = 30_000
+"""Facets drawn in the main view; a larger surface is drawn merged (``drawing_surface``)."""
+CLOSEUP_LIMIT = 6_000
+"""Facets drawn in one port close-up; more are merged the same way."""
+MAX_CLOSEUPS = 6
+"""Ports shown in close-up (the first ones, inlets before outlets)."""
 
 ELEVATION = 35.0
 """Camera angle above the plan, degrees."""
@@ -46,19 +58,6 @@ ELEVATION = 35.0
 
 class RenderUnavailable(RuntimeError):
     """Off-screen rendering could not start (no OpenGL context); the report goes on without it."""
-
-
-def _facet_polydata(mesh: ChannelMesh, name: str):  # type: ignore[no-untyped-def]
-    import pyvista as pv
-
-    faces = []
-    for block in mesh.facets_of(name):
-        if len(block.cells):
-            k = block.cells.shape[1]
-            faces.append(np.column_stack([np.full(len(block.cells), k), block.cells]).ravel())
-    if not faces:
-        return None
-    return pv.PolyData(mesh.points * 1e3, np.concatenate(faces)).clean()
 
 
 def view_direction(design: Design) -> np.ndarray:
@@ -75,12 +74,22 @@ def view_direction(design: Design) -> np.ndarray:
     return d / np.linalg.norm(d)
 
 
-def _camera_basis(design: Design) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _basis(view: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Screen right, screen up and the unit vector toward the camera."""
-    view = view_direction(design)
+    view = view / np.linalg.norm(view)
     right = np.cross([0.0, 0.0, 1.0], view)
     right /= np.linalg.norm(right)
     return right, np.cross(view, right), view
+
+
+def _camera_basis(design: Design) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    return _basis(view_direction(design))
+
+
+def port_names(mesh: ChannelMesh) -> list[str]:
+    """The inlet and outlet groups, inlets first."""
+    names = surface_groups(mesh)
+    return [n for n in names if n.startswith("inlet")] + [n for n in names if n.startswith("outlet")]
 
 
 def _plotter(width: int, height: int):  # type: ignore[no-untyped-def]
@@ -96,34 +105,33 @@ def _plotter(width: int, height: int):  # type: ignore[no-untyped-def]
         raise RenderUnavailable(f"off-screen rendering is not available: {exc}") from exc
 
 
-def render_groups(mesh: ChannelMesh, design: Design, width: int, height: int) -> tuple[np.ndarray, list[tuple[str, str]]]:
-    """RGB image (height, width, 3) uint8 of the surface groups, and the (name, colour) drawn."""
+def _polydata(surface: DrawingSurface, name: str):  # type: ignore[no-untyped-def]
+    import pyvista as pv
+
+    faces = [np.column_stack([np.full(len(c), c.shape[1]), c]).ravel() for c in surface.polygons[name]]
+    return pv.PolyData(surface.points, np.concatenate(faces)).clean()
+
+
+def render_groups(surface: DrawingSurface, design: Design, width: int, height: int
+                  ) -> tuple[np.ndarray, list[tuple[str, str]]]:
+    """RGB image (height, width, 3) uint8 of the surface groups drawn by VTK, and the
+    (name, colour) drawn. ``surface`` is in mm."""
     plotter = _plotter(width, height)
     try:
         plotter.set_background(PAPER)
-        surface_groups, colours, edges = _surface_groups(mesh)
-        has_internal = any(n.startswith("section") for n in surface_groups)
-        drawn = []
-        for name in surface_groups:
-            poly = _facet_polydata(mesh, name)
-            if poly is None:
-                continue
+        names = list(surface.polygons)
+        colours = group_colours(names)
+        has_internal = any(n.startswith("section") for n in names)
+        for name in names:
             is_wall = name == "wall"
-            plotter.add_mesh(
-                poly,
-                color=colours[name],
-                show_edges=edges and is_wall,
-                edge_color=WALL_EDGE,
-                line_width=0.6,
-                opacity=0.45 if (is_wall and has_internal) else 1.0,
-                ambient=0.45,
-                diffuse=0.6,
-                specular=0.0,
-            )
-            drawn.append((name, colours[name]))
+            plotter.add_mesh(_polydata(surface, name), color=colours[name], show_edges=True,
+                             edge_color=WALL_EDGE if is_wall else tuple(_edge_colour(np.array(to_rgb(colours[name])))),
+                             line_width=0.6,
+                             opacity=0.45 if (is_wall and has_internal) else 1.0,
+                             ambient=0.45, diffuse=0.6, specular=0.0)
         plotter.enable_parallel_projection()
         right, up, view = _camera_basis(design)
-        p = mesh.points * 1e3
+        p = surface.points
         screen = np.column_stack([p @ right, p @ up])
         lo, hi = screen.min(axis=0), screen.max(axis=0)
         mid = 0.5 * (lo + hi)
@@ -133,52 +141,107 @@ def render_groups(mesh: ChannelMesh, design: Design, width: int, height: int) ->
         plotter.camera.position = focus + view * 4.0 * depth
         plotter.camera.up = tuple(up)
         half = 0.5 * (hi - lo) * 1.08
-        plotter.camera.parallel_scale = float(max(half[1], half[0] * height / width)) / 0.86
+        plotter.camera.parallel_scale = float(max(half[1], half[0] * height / width))
         plotter.reset_camera_clipping_range()
         image = plotter.screenshot(None, return_img=True)
     finally:
         plotter.close()
-    return np.asarray(image, dtype=np.uint8)[:, :, :3], drawn
+    return np.asarray(image, dtype=np.uint8)[:, :, :3], [(n, colours[n]) for n in names]
 
 
-def _surface_groups(mesh: ChannelMesh) -> tuple[list[str], dict[str, str], bool]:
-    names = [g.name for g in mesh.groups if g.dim == 2 and any(len(b.cells) for b in mesh.facets_of(g.name))]
-    edges = sum(len(b.cells) for b in mesh.facets) <= EDGE_LIMIT
-    return names, group_colours(names), edges
-
-
-def draw_groups_mpl(ax, mesh: ChannelMesh, design: Design) -> list[tuple[str, str]]:  # type: ignore[no-untyped-def]
-    """Draw the surface groups into ``ax`` (equal aspect, axes off); returns (name, colour)."""
-    names, colours, edges = _surface_groups(mesh)
-    right, up, view = _camera_basis(design)
+def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dict[str, str],  # type: ignore[no-untyped-def]
+                     linewidth: float = 0.3) -> None:
+    """Draw ``surface`` into ``ax`` seen along ``view`` (toward the camera): flat-shaded
+    polygons sorted back to front, every edge drawn; equal aspect, axes off."""
+    right, up, view = _basis(view)
     light = 0.6 * view + 0.8 * up
     light /= np.linalg.norm(light)
-    p = mesh.points * 1e3
+    p = surface.points
     screen = np.column_stack([p @ right, p @ up])
     depth = p @ view
-    polys, faces, edge_colours, order = [], [], [], []
-    for name in names:
+    see_through = any(n.startswith("section") for n in surface.polygons)
+    polys: list[np.ndarray] = []
+    faces, edge_colours, order = [], [], []
+    for name, blocks in surface.polygons.items():
         base = np.array(to_rgb(colours[name]))
-        edge = np.array(to_rgb(WALL_EDGE if name == "wall" else INK))
-        for block in mesh.facets_of(name):
-            c = block.cells
+        edge = np.array(to_rgb(WALL_EDGE)) if name == "wall" else _edge_colour(base)
+        for c in blocks:
             corners = p[c]
-            normal = np.cross(corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0])
-            normal /= np.linalg.norm(normal, axis=1)[:, None]
+            normal = np.cross(corners[:, 2] - corners[:, 0], corners[:, -1] - corners[:, 1] if c.shape[1] > 3
+                              else corners[:, 1] - corners[:, 0])
+            normal /= np.maximum(np.linalg.norm(normal, axis=1), 1e-300)[:, None]
             shade = 0.6 + 0.4 * np.abs(normal @ light)  # two-sided Lambert with ambient
             polys += list(screen[c])
-            faces.append(np.clip(base[None, :] * shade[:, None], 0.0, 1.0))
+            rgb = np.clip(base[None, :] * shade[:, None], 0.0, 1.0)
+            alpha = 0.45 if (name == "wall" and see_through) else 1.0  # internal sections show through
+            faces.append(np.column_stack([rgb, np.full(len(c), alpha)]))
             edge_colours.append(np.repeat(edge[None, :], len(c), axis=0))
             order.append(depth[c].mean(axis=1))
-    back_to_front = np.argsort(np.concatenate(order))
+    back_to_front = np.argsort(np.concatenate(order), kind="stable")
     ax.add_collection(PolyCollection(
         [polys[i] for i in back_to_front],
         facecolors=np.concatenate(faces)[back_to_front],
-        edgecolors=np.concatenate(edge_colours)[back_to_front] if edges else "face",
-        linewidths=0.3 if edges else 0.0,
+        edgecolors=np.concatenate(edge_colours)[back_to_front],
+        linewidths=linewidth,
     ))
-    _equal_limits(ax, screen.min(axis=0), screen.max(axis=0))
-    return [(n, colours[n]) for n in names]
+    used = np.unique(np.concatenate([c.ravel() for blocks in surface.polygons.values() for c in blocks]))
+    _equal_limits(ax, screen[used].min(axis=0), screen[used].max(axis=0))
+    ax.set_axis_off()
+
+
+def _edge_colour(face: np.ndarray) -> np.ndarray:
+    """Cell edges on a coloured face: the colour darkened, or lightened on a dark face, so that
+    small cells do not turn a port black."""
+    luminance = float(face @ np.array([0.2126, 0.7152, 0.0722]))
+    return 0.55 * face + 0.45 if luminance < 0.35 else 0.72 * face
+
+
+def closeup_surface(mesh: ChannelMesh, design: Design, port: str) -> tuple[DrawingSurface, np.ndarray]:
+    """The facets near one port (within 1.6 section sizes of its centre, mm) and the view
+    direction that shows the port from outside, 40 degrees to its side and 30 above."""
+    p = mesh.points * 1e3
+    port_nodes = np.unique(np.concatenate([b.cells.ravel() for b in mesh.facets_of(port)]))
+    centre = p[port_nodes].mean(axis=0)
+    normal = sum((_unit_normal_sum(p, b.cells) for b in mesh.facets_of(port)), np.zeros(3))
+    line = centerline_of(design)
+    guess = -line.tangents(np.array([0.0]))[0] if port.startswith("inlet") else line.tangents(np.array([line.length]))[0]
+    outward = normal if normal @ guess >= 0 else -normal
+    outward = outward / max(float(np.linalg.norm(outward)), 1e-300)
+    size = max(design.section.width, design.section.max_height) * 1e3
+    reach = 1.6 * size
+    blocks = [b.cells for n in surface_groups(mesh) for b in mesh.facets_of(n)]
+    near = np.concatenate([np.linalg.norm(p[c].mean(axis=1) - centre, axis=1) <= reach for c in blocks])
+    keep = near & _attached(blocks, near, port_nodes, len(p))
+    surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep)
+    side = np.cross([0.0, 0.0, 1.0], outward)
+    view = outward + 0.84 * side + 0.7 * np.array([0.0, 0.0, 1.0])
+    return surface, view / np.linalg.norm(view)
+
+
+def _attached(blocks: list[np.ndarray], near: np.ndarray, seeds: np.ndarray, n_points: int) -> np.ndarray:
+    """Facets joined to the ``seeds`` nodes through nodes shared among the ``near`` facets:
+    the port's own end of the channel, without a neighbouring turn that happens to be close."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    rows, cols, offset = [], [], 0
+    for c in blocks:
+        idx = np.arange(offset, offset + len(c))
+        offset += len(c)
+        take = near[idx]
+        rows.append(np.repeat(idx[take], c.shape[1]))
+        cols.append(c[take].ravel())
+    r, k = np.concatenate(rows), np.concatenate(cols)
+    n = offset + n_points  # facets first, then nodes, in one bipartite graph
+    graph = coo_matrix((np.ones(len(r)), (r, offset + k)), shape=(n, n))
+    _, label = connected_components(graph, directed=False)
+    return np.isin(label[:offset], label[offset + seeds])
+
+
+def _unit_normal_sum(p: np.ndarray, cells: np.ndarray) -> np.ndarray:
+    c = p[cells]
+    n = np.cross(c[:, 2] - c[:, 0], c[:, -1] - c[:, 1] if cells.shape[1] > 3 else c[:, 1] - c[:, 0])
+    return n.sum(axis=0)
 
 
 def _equal_limits(ax, lo: np.ndarray, hi: np.ndarray, margin: float = 0.04) -> None:  # type: ignore[no-untyped-def]
@@ -194,33 +257,33 @@ def _equal_limits(ax, lo: np.ndarray, hi: np.ndarray, margin: float = 0.04) -> N
 
 
 def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: int = 800, engine: str = "auto") -> bytes:
-    """PNG of the mesh's surface groups at ``width`` x ``height`` px, with a title and a legend."""
+    """PNG of the mesh's surface groups at ``width`` x ``height`` px: the whole channel, a
+    close-up of each port below it, a title and a legend."""
     if engine not in ENGINES:
         raise ValueError(f"engine = {engine!r}, but one of {ENGINES} is expected")
-    fallback = engine == "auto"
-    if engine == "auto":
-        engine = "mpl" if sum(len(b.cells) for b in mesh.facets) <= AUTO_LIMIT else "vtk"
+    ports = port_names(mesh)[:MAX_CLOSEUPS]
+    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3)
+    colours = group_colours(list(surface.polygons))
+    main_box = (0.01, 0.31, 0.98, 0.60) if ports else (0.01, 0.01, 0.98, 0.86)
     image = None
     if engine == "vtk":
-        try:
-            image, drawn = render_groups(mesh, design, width, height)
-        except RenderUnavailable:
-            if not fallback:
-                raise
+        image, _ = render_groups(surface, design, round(main_box[2] * width), round(main_box[3] * height))
     fig = plt.figure(figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER)
     try:
+        ax = fig.add_axes(main_box)
         if image is not None:
-            ax = fig.add_axes((0, 0, 1, 1))
             ax.imshow(image, interpolation="nearest")
+            ax.set_axis_off()
         else:
-            ax = fig.add_axes((0.01, 0.01, 0.98, 0.86))
-            drawn = draw_groups_mpl(ax, mesh, design)
-        ax.set_axis_off()
-        counts = ", ".join(f"{n:,} {t}" for t, n in mesh.cell_counts().items())
+            draw_surface_mpl(ax, surface, view_direction(design), colours)
+        _draw_closeups(fig, mesh, design, ports, colours)
+        merged = (f"  ·  surface drawn merged, {surface.facets:,} of {surface.facets_in_mesh:,} facets"
+                  f" (close-ups: every cell)" if surface.merged else "")
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
                  fontsize=13, color=INK, weight="bold")
-        fig.text(0.02, 1 - 40 / height, counts, ha="left", va="top", fontsize=10, color=INK)
-        handles = [Patch(facecolor=c, edgecolor=INK, linewidth=0.6, label=n) for n, c in drawn]
+        fig.text(0.02, 1 - 40 / height, count_phrase(mesh.cell_counts()) + merged, ha="left", va="top",
+                 fontsize=10, color=INK)
+        handles = [Patch(facecolor=colours[n], edgecolor=INK, linewidth=0.6, label=n) for n in surface.polygons]
         fig.legend(handles=handles, loc="upper right", frameon=True, fontsize=11, title="groups", title_fontsize=11,
                    labelcolor=INK, edgecolor="#9AA5AE", borderpad=0.8)
         buf = io.BytesIO()
@@ -228,3 +291,23 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
     finally:
         plt.close(fig)
     return buf.getvalue()
+
+
+def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str]) -> None:  # type: ignore[no-untyped-def]
+    """One framed close-up per port along the bottom of the figure, titled in its colour."""
+    if not ports:
+        return
+    slot = 0.98 / max(len(ports), 4)
+    left = 0.01 + 0.5 * (0.98 - slot * len(ports))
+    for i, port in enumerate(ports):
+        ax = fig.add_axes((left + i * slot + 0.006, 0.015, slot - 0.012, 0.255))
+        surface, view = closeup_surface(mesh, design, port)
+        draw_surface_mpl(ax, surface, view, colours, linewidth=0.25)
+        ax.set_axis_on()
+        ax.set_xticks([])
+        ax.set_yticks([])
+        for spine in ax.spines.values():
+            spine.set_edgecolor(colours[port])
+            spine.set_linewidth(2.0)
+        note = "every cell" if not surface.merged else "merged for drawing"
+        ax.set_title(f"{port}  ·  close-up, {note}", fontsize=9.5, color=INK, loc="left", pad=3)

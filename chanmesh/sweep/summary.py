@@ -22,7 +22,7 @@ SUMMARY = "summary.csv"
 NUMBER_COLUMNS = ("reynolds", "dean_max", "pressure_drop_Pa")
 QUALITY_COLUMNS = ("scaled_jacobian_min", "scaled_jacobian_mean", "aspect_ratio_max", "non_orthogonality_max",
                    "wall_cell_min", "wall_cell_mean", "wall_cell_max")
-"""The manifest's quality figures, one column each so a spreadsheet can sort by them (wall cells in m)."""
+"""The manifest's quality figures, one column each so a spreadsheet can sort by them (wall-adjacent cells in m)."""
 
 
 def design_figures(design: Design) -> dict[str, float | None]:
