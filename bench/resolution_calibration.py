@@ -269,25 +269,26 @@ def figure_rows(rows: dict[int, dict]) -> dict[int, dict]:
 
 
 def calibration(rows: dict[int, dict], ref: dict, figs: dict[int, dict]) -> None:
-    """Fit FV error / figure error on the secondary maximum (geometric mean over the grids whose
-    wall layers do not meet, cells_high >= 8), check the factor of two and the ranking."""
-    from chanmesh.resolution import FV_FACTORS
+    """Fit FV error = A x m^B on the secondary maximum, m the larger of the figure's secondary
+    max and mean errors (least squares in log-log over every grid), check the factor of two
+    (also with each grid left out of the fit) and the ranking."""
+    from chanmesh.resolution import FV_LAW, predicted_fv_error
 
     ns = [n for n in rows if n in figs]
     fv = {n: abs(rows[n]["section"]["secondary_max"] / ref["secondary_max"][0] - 1) for n in ns}
-    fg = {n: abs(figs[n]["errors"]["secondary_max"]) for n in ns}
-    fit = [n for n in ns if n >= 8]
-    factor = math.exp(np.mean([math.log(fv[n] / fg[n]) for n in fit]))
-    print(f"\nsecondary max: fitted FV/figure factor {factor:.3f} over cells_high {fit} "
-          f"(chanmesh.resolution.FV_FACTORS uses {FV_FACTORS['secondary_max']})")
+    m = {n: max(abs(figs[n]["errors"]["secondary_max"]), abs(figs[n]["errors"]["secondary_mean"])) for n in ns}
+    b, ln_a = np.polyfit([math.log(m[n]) for n in ns], [math.log(fv[n]) for n in ns], 1)
+    print(f"\nsecondary max: fitted FV = {math.exp(ln_a):.2f} x m^{b:.2f} over cells_high {ns} "
+          f"(chanmesh.resolution.FV_LAW uses {FV_LAW['secondary_max']})")
+    pred = {n: predicted_fv_error(figs[n]["errors"])["secondary_max"] for n in ns}
     for n in ns:
-        pred = FV_FACTORS["secondary_max"] * fg[n]
-        print(f"  cells_high {n:>2}: FV {fv[n]:.2%}, predicted {pred:.2%}, ratio {max(pred, fv[n]) / min(pred, fv[n]):.2f}")
-    order_fv = sorted(ns, key=lambda n: fv[n])
-    order_fig = sorted(ns, key=lambda n: fg[n])
-    worst_fig = {n: max(FV_FACTORS[k] * abs(v) for k, v in figs[n]["errors"].items() if v is not None) for n in ns}
-    print(f"  ranking by FV secondary-max error: {order_fv}; by the figure's: {order_fig}; "
-          f"by the worst calibrated figure: {sorted(ns, key=lambda n: worst_fig[n])}")
+        rest = [k for k in ns if k != n]
+        b1, ln_a1 = np.polyfit([math.log(m[k]) for k in rest], [math.log(fv[k]) for k in rest], 1)
+        loo = math.exp(ln_a1) * m[n] ** b1
+        print(f"  cells_high {n:>2}: FV {fv[n]:.2%}, predicted {pred[n]:.2%} (ratio {max(pred[n], fv[n]) / min(pred[n], fv[n]):.2f}), "
+              f"left out of the fit {loo:.2%} (ratio {max(loo, fv[n]) / min(loo, fv[n]):.2f})")
+    print(f"  ranking by FV secondary-max error: {sorted(ns, key=lambda n: fv[n])}; "
+          f"by the prediction: {sorted(ns, key=lambda n: pred[n])}")
 
 
 def main() -> None:
