@@ -59,3 +59,17 @@ def test_an_untagged_and_a_doubly_tagged_facet_are_refused():
                         mesh.groups)
     with pytest.raises(MeshCheckError, match="more than one group"):
         check_boundary_tagging(twice)
+
+
+def test_face_table_over_several_volume_blocks():
+    """Cells split over three blocks (as a mixed mesh has them): slots of every block pair with
+    slots of the others, nodes and owners found across blocks, against np.unique."""
+    mesh = mesh_hex(hex_design("arc"))
+    cells, tags = mesh.volumes[0].cells, mesh.volumes[0].tags
+    cut = [0, len(cells) // 3, 2 * len(cells) // 3, len(cells)]
+    blocks = [Block("hexahedron", cells[a:b], tags[a:b]) for a, b in zip(cut[:-1], cut[1:])]
+    split = ChannelMesh(mesh.points, blocks, mesh.facets, mesh.groups)
+    _check_against_unique(split)
+    table = face_table(split, 4)
+    slots = np.arange(len(table.partner))
+    assert np.array_equal(table.owner(slots), slots // 6)  # six quads a hexahedron, cells in order

@@ -102,3 +102,21 @@ def test_tet_wall_height_is_the_height_over_the_facet():
     q = mesh_quality(mesh)
     assert q.wall_cell_min == pytest.approx(0.7)
     assert q.scaled_jacobian_min == pytest.approx(_vtk_scaled_jacobian(pts, "tetra", np.array([[0, 1, 2, 3]]))[0])
+
+
+def test_wall_heights_a_few_ulps_apart_still_give_histograms():
+    """Two boxes 2.5e-5 m high, the far end of the second a few ulps taller (a straight duct's
+    wall cells differ that little): numpy cannot cut that range in 30 bins, and the build
+    stopped with a traceback. Heights are the box heights (elementary geometry); the
+    histogram counts every wall facet within its edges."""
+    h = 2.5e-5
+    mesh = _box_mesh()
+    mesh.points[:, 2] *= h / 3.0
+    far_top = (mesh.points[:, 1] == 4.0) & (mesh.points[:, 2] == h)
+    mesh.points[far_top, 2] += 4 * np.spacing(h)
+    q = mesh_quality(mesh)
+    assert q.wall_cell_min == pytest.approx(h, rel=1e-12, abs=0)
+    assert q.wall_cell_max == pytest.approx(h, rel=1e-12, abs=0)
+    hist = q.histograms["wall_cell_m"]
+    assert sum(hist["counts"]) == 4 and len(hist["edges"]) == 31
+    assert hist["edges"][0] < q.wall_cell_min <= q.wall_cell_max < hist["edges"][-1]

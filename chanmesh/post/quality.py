@@ -173,13 +173,18 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     ratios: list[np.ndarray] = []
     for b in mesh.volumes:
         for lo in range(0, len(b.cells), CHUNK):
-            parts = [_CellGeometry(mesh.points, b.cells[a:a + SUB]) for a in range(lo, min(lo + CHUNK, len(b.cells)), SUB)]
-            sj = np.concatenate([_scaled_jacobian(g, b.type) for g in parts])
+            sj_parts, er_parts = [], []
+            for a in range(lo, min(lo + CHUNK, len(b.cells)), SUB):  # one batch's geometry alive at a time
+                g = _CellGeometry(mesh.points, b.cells[a:a + SUB])
+                sj_parts.append(_scaled_jacobian(g, b.type))
+                er_parts.append(_edge_ratio(g, b.type))
+                del g
+            sj = np.concatenate(sj_parts)
             jac_min = min(jac_min, float(sj.min()))
             jac_sum += float(sj.sum())
             jac_counts += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
-            er = np.concatenate([_edge_ratio(g, b.type) for g in parts])
-            del parts
+            er = np.concatenate(er_parts)
+            del sj_parts, er_parts
             aspect = max(aspect, float(er.max()))
             ratios.append(er.astype(np.float32))
     centres = _centres(mesh)
@@ -191,8 +196,8 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
         if table is None:
             continue
         partner = table.partner
-        for lo in range(0, len(partner), SUB * 8):
-            own = np.arange(lo, min(lo + SUB * 8, len(partner)), dtype=np.int64)
+        for lo in range(0, len(partner), SUB * 2):
+            own = np.arange(lo, min(lo + SUB * 2, len(partner)), dtype=np.int64)
             other = partner[lo:lo + len(own)].astype(np.int64)
             first, second = own[other > own], other[other > own]
             if len(first):
@@ -237,7 +242,12 @@ def _histograms(jac_counts: np.ndarray, ratios: np.ndarray, heights: np.ndarray)
     out = {"scaled_jacobian": {"edges": JACOBIAN_EDGES.tolist(), "counts": jac_counts.tolist()}}
     for name, values in (("aspect_ratio", ratios), ("wall_cell_m", heights)):
         if len(values):
-            counts, edges = np.histogram(values, 30)
+            try:
+                counts, edges = np.histogram(values, 30)
+            except ValueError:  # values a few ulps apart (a straight duct's wall cells): numpy
+                lo, hi = float(values.min()), float(values.max())  # cannot split that range in 30
+                pad = max(abs(lo), abs(hi), np.finfo(float).tiny) * 1e-6
+                counts, edges = np.histogram(values, 30, range=(lo - pad, hi + pad))
             out[name] = {"edges": edges.tolist(), "counts": counts.tolist()}
     return out
 

@@ -1,7 +1,9 @@
 """Formats written by gmsh itself from a discrete model: MSH, SU2, MED, CGNS.
 
 gmsh's own writers keep physical-group names (meshio 5.3.5's SU2 writer raises TypeError and
-its MSH 4.1 writer needs per-node entity tags for mixed cells; GMSH-NOTES).
+its MSH 4.1 writer needs per-node entity tags for mixed cells; GMSH-NOTES). The default MSH
+(4.1, ASCII) is written by ``msh41`` instead: the same bytes, without loading the mesh into
+gmsh (several times faster and lighter for a million cells).
 """
 
 from __future__ import annotations
@@ -15,7 +17,7 @@ from chanmesh.gmshlayer.discrete import load_discrete
 from chanmesh.gmshlayer.session import gmsh_session
 from chanmesh.meshing.model import Block, ChannelMesh
 from chanmesh.meshing.verify import INTERNAL_PREFIX
-from chanmesh.writers import WriteOptions
+from chanmesh.writers import WriteOptions, msh41
 
 
 def without_sections(mesh: ChannelMesh) -> ChannelMesh:
@@ -30,6 +32,9 @@ def without_sections(mesh: ChannelMesh) -> ChannelMesh:
 def _write(mesh: ChannelMesh, path: Path, options: WriteOptions, msh: bool = False) -> list[Path]:
     if msh and not options.msh_sections:
         mesh = without_sections(mesh)
+    if msh and options.msh_version == "4.1" and not options.binary and msh41.supports(mesh):
+        msh41.write_msh41(mesh, path)
+        return [path]
     with gmsh_session(threads=1):
         load_discrete(mesh)
         gmsh.option.setNumber("Mesh.SaveAll", 0)
