@@ -124,10 +124,12 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
         try:
             end, found = four_cell(d, kappa, q_target, start, cells, counts)
         except FourCellNotFound as exc:
-            folds = ", ".join(f"{de_of(f * q_target):.4g}" for f in exc.folds) or "none"
+            folds = ", ".join(f"{de_of(f * q_target):.4g}" for f in exc.folds)
+            passed = f"limit points of the symmetric branch passed at De = {folds}" if folds else \
+                "no limit point of the symmetric branch below this flow"
             raise FourCellNotFound(
                 f"section flow: no four-cell state found at {flow_rate * 6e7:.4g} mL/min (De = {de_of(q_target):.4g}) "
-                f"on this grid (limit points of the symmetric branch passed at De = {folds}); four-cell flows exist "
+                f"on this grid ({passed}); four-cell flows exist "
                 "only above a Dean number (Winters 1987): try a higher flow, or the primary branch") from None
         extra["limit_points_dean"] = [de_of(f * q_target) for f in found["limit_points_flow_ratio"]]
         extra["full_residual"] = float(np.max(np.abs(eq.residual(d.tables, kappa, end.x, end.g)[d.free])))
