@@ -66,6 +66,10 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0,
             if len(cells):
                 blocks.append((gi, cells))
     total = sum(len(c) for _, c in blocks)
+    if keep is not None and blocks:  # a close-up: carry only the nodes its facets use
+        used = np.unique(np.concatenate([c.ravel() for _, c in blocks]))
+        points = points[used]
+        blocks = [(g, np.searchsorted(used, c)) for g, c in blocks]
     if total <= limit:
         return DrawingSurface(points, _by_name(names, blocks), total, 0.0)
     # each group merged on its own, to its share of the limit but never below a few hundred

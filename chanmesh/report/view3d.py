@@ -196,9 +196,17 @@ def _edge_colour(face: np.ndarray) -> np.ndarray:
     return 0.55 * face + 0.45 if luminance < 0.35 else 0.72 * face
 
 
-def closeup_surface(mesh: ChannelMesh, design: Design, port: str) -> tuple[DrawingSurface, np.ndarray]:
+def facet_centres(mesh: ChannelMesh) -> np.ndarray:
+    """Centre (mm) of every facet of the surface groups, in ``drawing_surface``'s order."""
+    p = mesh.points * 1e3
+    return np.concatenate([p[b.cells].mean(axis=1) for n in surface_groups(mesh) for b in mesh.facets_of(n)])
+
+
+def closeup_surface(mesh: ChannelMesh, design: Design, port: str,
+                    centres: np.ndarray | None = None) -> tuple[DrawingSurface, np.ndarray]:
     """The facets near one port (within 1.6 section sizes of its centre, mm) and the view
-    direction that shows the port from outside, 40 degrees to its side and 30 above."""
+    direction that shows the port from outside, 40 degrees to its side and 30 above.
+    ``centres``: ``facet_centres(mesh)``, when several close-ups share it."""
     p = mesh.points * 1e3
     port_nodes = np.unique(np.concatenate([b.cells.ravel() for b in mesh.facets_of(port)]))
     centre = p[port_nodes].mean(axis=0)
@@ -210,7 +218,8 @@ def closeup_surface(mesh: ChannelMesh, design: Design, port: str) -> tuple[Drawi
     size = max(design.section.width, design.section.max_height) * 1e3
     reach = 1.6 * size
     blocks = [b.cells for n in surface_groups(mesh) for b in mesh.facets_of(n)]
-    near = np.concatenate([np.linalg.norm(p[c].mean(axis=1) - centre, axis=1) <= reach for c in blocks])
+    centres = facet_centres(mesh) if centres is None else centres
+    near = np.linalg.norm(centres - centre, axis=1) <= reach
     keep = near & _attached(blocks, near, port_nodes, len(p))
     surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep)
     side = np.cross([0.0, 0.0, 1.0], outward)
@@ -299,9 +308,10 @@ def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], col
         return
     slot = 0.98 / max(len(ports), 4)
     left = 0.01 + 0.5 * (0.98 - slot * len(ports))
+    centres = facet_centres(mesh)
     for i, port in enumerate(ports):
         ax = fig.add_axes((left + i * slot + 0.006, 0.015, slot - 0.012, 0.255))
-        surface, view = closeup_surface(mesh, design, port)
+        surface, view = closeup_surface(mesh, design, port, centres)
         draw_surface_mpl(ax, surface, view, colours, linewidth=0.25)
         ax.set_axis_on()
         ax.set_xticks([])
