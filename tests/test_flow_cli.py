@@ -66,3 +66,19 @@ def test_numbers_reports_computed_secondary_speed_beside_the_correlation(write_d
     assert "correlation (Ookawara et al. 2004) there" in text
     assert main(["numbers", str(design), "--no-section-flow"]) == 0
     assert "computed (fully developed" not in capsys.readouterr().out
+
+
+def test_dean_four_cell_branch_below_its_range_is_one_line_and_exit_2(tmp_path, capsys):
+    """Four-cell flows of a curved square duct exist only above a Dean number (Winters 1987,
+    J. Fluid Mech. 180: two- and four-cell ranges joined through limit points): far below it the
+    command refuses in one line, exit 2, and writes nothing."""
+    design = tmp_path / "square.toml"
+    design.write_text('name = "sq"\nunit = "um"\n[section]\nwidth = 100\nheight = 100\n'
+                      '[path]\nkind = "arc"\nradius = 1500\nangle = 180\n[flow]\nrate = "0.05mL/min"\n')
+    out = tmp_path / "d"
+    code = main(["dean", str(design), "--at", "90deg", "--branch", "four-cell", "--cells-across", "8",
+                 "--cells-high", "8", "--out", str(out)])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2
+    assert len(err) == 1 and "no four-cell state" in err[0]
+    assert not out.exists() or not any(out.iterdir())

@@ -29,6 +29,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--out", type=Path, default=None, help="output folder (default out/<name>-dean)")
     p.add_argument("--cells-across", type=int, default=None, metavar="N", help="section grid: cells across the width")
     p.add_argument("--cells-high", type=int, default=None, metavar="N", help="section grid: cells over the height")
+    p.add_argument("--branch", choices=("primary", "four-cell"), default="primary",
+                   help="primary (default: the flow reached from rest) or four-cell (a bent rectangle's symmetric "
+                        "four-cell state, unstable; refused when there is none at this flow)")
 
 
 def _flow(design_flow: FlowSpec, args: argparse.Namespace, area: float) -> tuple[FlowSpec, list[float] | None]:
@@ -74,7 +77,7 @@ def run(args: argparse.Namespace) -> int:
           + (f"/{sec.h_outer * 1e6:.4g}" if sec.h_outer != sec.h_inner else "")
           + f" um high; {problem.fluid.name}, rho {problem.fluid.density:.5g} kg/m3, mu {problem.fluid.viscosity * 1e3:.4g} mPa s")
     if rates is not None:
-        flows = solve_station_range(problem, rates, grid)
+        flows = solve_station_range(problem, rates, grid, branch=args.branch)
         title = f"{design.name} at {args.at}: {where}"
         files = write_range(flows, problem, out, design.name, title)
         print(f"  {'mL/min':>8} {'Re':>7} {'De':>7} {'sec max':>9} {'sec mean':>9} {'peak u':>8} {'cells':>5}")
@@ -84,7 +87,7 @@ def run(args: argparse.Namespace) -> int:
                   f"{f.secondary_mean * 1e3:>6.3g} mm/s {f.u_of_streamwise_max * 1e6:>5.3g} um {f.cell_count:>5}")
         print(f"wrote {', '.join(p.name for p in files)} in {out}")
         return 0
-    f = solve_station(problem, rate, grid)
+    f = solve_station(problem, rate, grid, branch=args.branch)
     title = f"{design.name} at {args.at}: {where}"
     files = write_dean(f, problem, out, design.name, title)
     print(f"  flow {f.flow_rate * 6e7:.4g} mL/min, mean {f.mean_velocity:.4g} m/s, Re = {f.reynolds:.4g}"

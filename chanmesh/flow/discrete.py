@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.sparse import csr_matrix
+from scipy.sparse import coo_matrix, csc_matrix, csr_matrix
 from skfem import Basis, ElementTriMini, ElementTriP1, ElementTriP2, MeshTri
 
 from chanmesh.errors import ChanmeshError
@@ -37,6 +37,34 @@ class Discrete:
     node_dofs: np.ndarray  # scalar-basis dofs whose values are the outputs (P2: vertices + edges)
     out_points: np.ndarray  # (k, 2) dimensionless locations of node_dofs
     out_triangles: np.ndarray  # (t, 3) triangles over out_points
+    reduced: csr_matrix | None = None
+    """(size, k) basis of the solved-for subspace when smaller than ``free`` (``mirror_basis``)."""
+
+    def restrict(self, v: np.ndarray) -> np.ndarray:
+        """A residual-type vector on the unknowns solved for."""
+        return v[self.free] if self.reduced is None else self.reduced.T @ v
+
+    def restrict_coords(self, x: np.ndarray) -> np.ndarray:
+        """Coordinates of a state ``x`` (in the subspace) on the unknowns solved for."""
+        if self.reduced is None:
+            return x[self.free]
+        norm2 = np.asarray(self.reduced.multiply(self.reduced).sum(axis=0)).ravel()
+        return (self.reduced.T @ x) / norm2
+
+    def restrict_matrix(self, matrix: csr_matrix) -> csc_matrix:
+        """The Jacobian on the unknowns solved for (Galerkin restriction B^T J B when reduced)."""
+        if self.reduced is None:
+            return matrix[self.free][:, self.free].tocsc()
+        return (self.reduced.T @ matrix @ self.reduced).tocsc()
+
+    def extend(self, step: np.ndarray) -> np.ndarray:
+        """A full-size state change from a step on the unknowns solved for."""
+        out = np.zeros(self.size)
+        if self.reduced is None:
+            out[self.free] = step
+        else:
+            out += self.reduced @ step
+        return out
 
 
 def discretise(grid: SectionGrid, kind: str, length: float) -> Discrete:
@@ -75,6 +103,43 @@ def discretise(grid: SectionGrid, kind: str, length: float) -> Discrete:
         out_points, out_triangles = mesh.p.T, mesh.t.T
     return Discrete(mesh, tables, scalar, length, kind, free, size, scalar_free, node_dofs,
                     np.asarray(out_points), np.asarray(out_triangles))
+
+
+def mirror_basis(d: Discrete) -> csr_matrix:
+    """Basis of the states mirror-symmetric about mid-height: u_n, w and p even, u_z odd.
+
+    Column per pair of mirror dofs (e_i + e_j, or e_i - e_j for u_z; a u_z dof on the mid-plane
+    is zero), walls and the pinned pressure (with its mirror) left out. On a grid that is its own
+    mirror image (``grid.mirrored``) the equations map symmetric states to symmetric residuals,
+    so B^T F = 0 is F = 0 there: the symmetric problem with about half the unknowns, and without
+    the asymmetric modes that make the Jacobian singular at a symmetry-breaking point.
+    """
+    from scipy.spatial import cKDTree
+
+    vel = np.asarray(d.scalar.doflocs).T
+    pres = np.asarray(d.mesh.p).T  # P1 dof i is vertex i
+    mid = 0.5 * (vel[:, 1].min() + vel[:, 1].max())
+    nv = d.scalar.N
+    fixed = np.ones(d.size, bool)
+    fixed[d.free] = False
+    rows, cols, vals = [], [], []
+    k = 0
+    for offset, locs, sign in ((0, vel, 1.0), (nv, vel, 1.0), (2 * nv, vel, -1.0), (3 * nv, pres, 1.0)):
+        dist, mirror = cKDTree(locs).query(np.column_stack([locs[:, 0], 2.0 * mid - locs[:, 1]]))
+        if np.max(dist) > 1e-9 * max(1.0, float(np.ptp(locs))):
+            raise ChanmeshError("section grid: not symmetric about mid-height (use grid.mirrored)")
+        for i, j in enumerate(mirror):
+            if j < i or fixed[offset + i] or fixed[offset + j] or (i == j and sign < 0):
+                continue
+            rows.append(offset + i)
+            vals.append(1.0)
+            cols.append(k)
+            if j != i:
+                rows.append(offset + j)
+                vals.append(sign)
+                cols.append(k)
+            k += 1
+    return coo_matrix((vals, (rows, cols)), shape=(d.size, k)).tocsr()
 
 
 def solve_free(matrix: csr_matrix, rhs: np.ndarray, free: np.ndarray) -> np.ndarray:

@@ -121,3 +121,21 @@ def default_grid(section: Any, cells_across: int | None = None, cells_high: int 
     eta = graded_nodes(1.0, int(cells_high), ratio)
     desc = f"structured {cells_across} x {cells_high} quadrilaterals (growth ratio {ratio:g} from each wall)"
     return structured_grid(shape, u, eta, desc)
+
+
+def mirrored(grid: SectionGrid) -> SectionGrid:
+    """The structured ``grid`` with each quadrilateral split into triangles so that the
+    triangulation is its own mirror image about mid-height (upper half along the 0-2 diagonal,
+    lower half along 1-3). Needs an even number of cells high. Used where a solution must stay
+    exactly symmetric (the four-cell branch); the default split leans one way."""
+    c = np.asarray(grid.cells, dtype=np.int64)
+    if grid.shape is None or c.shape[1] != 4:
+        raise DesignError("grid", grid.description, "a mirrored split needs a structured quadrilateral grid")
+    ni, nj = grid.shape
+    if nj % 2:
+        raise DesignError("--cells-high", nj, "must be even for a grid symmetric about mid-height")
+    upper = (np.arange(len(c)) % nj) >= nj // 2  # cell (i, j) is number i * nj + j
+    tri = np.concatenate([c[upper][:, [0, 1, 2]], c[upper][:, [0, 2, 3]],
+                          c[~upper][:, [0, 1, 3]], c[~upper][:, [1, 2, 3]]])
+    return SectionGrid(grid.points, tri, grid.shape, grid.description + ", triangles mirrored about mid-height",
+                       dict(grid.meta))

@@ -93,17 +93,16 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
     ``patient``: do not give up early (up to ``MAX_NEWTON`` iterations, for long jumps)."""
     from scipy.sparse.linalg import splu
 
-    free = d.free
-    m = load[free]
+    m = d.restrict(load)
     lu = None
-    y2 = np.zeros(len(free))
+    y2 = np.zeros(len(m))
     prev = math.inf
     chord = False
     for it in range(1, MAX_NEWTON + 1):
         counts.newton += 1
         res = eq.residual(d.tables, kappa, x, g)
         if not chord:
-            mat = eq.jacobian(d.tables, kappa, x)[free][:, free].tocsc()
+            mat = d.restrict_matrix(eq.jacobian(d.tables, kappa, x))
             counts.factorisations += 1
             try:
                 lu = splu(mat, diag_pivot_thresh=0.01)
@@ -111,21 +110,19 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
                 raise Diverged from None
             y2 = lu.solve(m)
         assert lu is not None
-        y1 = lu.solve(-res[free])
+        y1 = lu.solve(-d.restrict(res))
         dg = (q - load @ x - m @ y1) / (m @ y2)
         step = y1 + dg * y2
         if not (np.all(np.isfinite(step)) and math.isfinite(dg)):
             raise Diverged
-        x = x.copy()
-        x[free] += step
+        x = x + d.extend(step)
         g += float(dg)
         size = float(np.max(np.abs(step))) / max(1.0, float(np.max(np.abs(x))))
         if not math.isfinite(size) or size > 1e6:
             raise Diverged
         if size < NEWTON_TOL:
             dgdq = 1.0 / float(m @ y2)
-            dx = np.zeros_like(x)
-            dx[free] = dgdq * y2
+            dx = d.extend(dgdq * y2)
             return Point(x, g, q, dx, dgdq, it)
         if chord:
             chord = size < CHORD_RATE * prev  # a slow chord step: refactor next time

@@ -15,14 +15,21 @@ import numpy as np
 
 from chanmesh.errors import ChanmeshError
 from chanmesh.flow import equations as eq
-from chanmesh.flow.discrete import Discrete, discretise, solve_free
+from chanmesh.flow.branch import FourCellNotFound, four_cell
+from chanmesh.flow.discrete import Discrete, discretise, mirror_basis, solve_free
 from chanmesh.flow.newton import Counts, FlowNotConverged, Point, by_jumps, continuation
-from chanmesh.flow.grid import SectionGrid, default_grid, shape_of
+from chanmesh.flow.grid import SectionGrid, default_grid, mirrored, shape_of
 from chanmesh.flow.result import SectionFlow, find_vortices, neighbours, refine_extremum
 from chanmesh.numbers.regime import dean_number
 
 PSI_FLOOR = 1e-9
 """No vortex cells are reported when max |psi| is below this fraction of U D_h (a still section)."""
+BRANCHES = ("primary", "four-cell")
+"""``branch``: "primary" = the flow continuation from rest reaches (two cells in a square duct);
+"four-cell" = the symmetric four-cell state of a bent rectangular duct (``flow.branch``)."""
+FOUR_CELL_START = 0.125
+"""The four-cell search follows the symmetric branch from this fraction of the flow rate asked
+for (a Dean number where the flow is unique)."""
 ORDER_ASSUMED = 2.0
 """Convergence order assumed by the Richardson error estimate. Measured on three grids
 (tests/test_flow_reference.py): 2.9 for the mean secondary speed, above 5 for dp/ds; the nodal
@@ -46,7 +53,7 @@ def _stream_function(d: Discrete, kappa: float, un: np.ndarray, uz: np.ndarray) 
 
 def solve_section_flow(section: Any, radius: float | None, density: float, viscosity: float, flow_rate: float,
                        grid: SectionGrid | None = None, discretisation: str = "reference", initial: SectionFlow | None = None,
-                       estimate_error: bool | None = None) -> SectionFlow:
+                       estimate_error: bool | None = None, branch: str = "primary") -> SectionFlow:
     """Fully developed laminar flow of ``section`` bent at ``radius`` (m; None = straight) carrying
     ``flow_rate`` (m^3/s) of a fluid of ``density`` (kg/m^3) and ``viscosity`` (Pa s).
 
@@ -56,8 +63,13 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
     ``initial``: a solution on the same grid and discretisation to start Newton from.
     ``estimate_error`` (default: for the reference on a default grid): Richardson estimate from a
     second grid with half the cells each way.
+    ``branch``: "primary", or "four-cell" (a rectangle in a bend only; the grid's triangles are
+    mirrored about mid-height and a structured grid with an even number of cells high is needed;
+    ``FourCellNotFound`` when there is none at this flow, e.g. below the branch's limit point).
     """
     shape = shape_of(section)
+    if branch not in BRANCHES:
+        raise ChanmeshError(f"section flow: branch = {branch!r}: must be one of {', '.join(BRANCHES)}")
     for key, value in (("density", density), ("viscosity", viscosity), ("flow rate", flow_rate)):
         if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
             raise ChanmeshError(f"section flow: {key} = {value!r}: must be a finite number greater than 0")
@@ -66,6 +78,11 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
                             f"({0.5 * shape.width * 1e6:.6g} um), or be None for a straight duct")
     made_default = grid is None
     grid = default_grid(shape) if grid is None else grid
+    if branch == "four-cell":
+        if radius is None or abs(shape.h_outer - shape.h_inner) > 1e-9 * shape.mean_height:
+            raise ChanmeshError("section flow: branch = four-cell: needs a bend (a radius) and a rectangular section "
+                                "(height_inner = height_outer), whose flow is symmetric about mid-height")
+        grid = mirrored(grid)
     t0 = time.perf_counter()
     length = shape.hydraulic_diameter
     d = discretise(grid, discretisation, length)
@@ -91,24 +108,52 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
             and initial.state["kind"] == discretisation:
         start = _point_of(initial, scale_v, viscosity * scale_v / length**2, length)
     counts = Counts()
-    try:
-        end = continuation(d, kappa, q_target, start, counts, describe)
-    except FlowNotConverged:
-        end = by_jumps(d, kappa, q_target, start, counts, describe)
+    extra: dict[str, Any] = {"branch": branch}
+    if branch == "four-cell":
+        d.reduced = mirror_basis(d)
+        if start.q <= 0 or start.q >= q_target or (initial is not None and initial.solver.get("branch") != "four-cell"):
+            start = continuation(d, kappa, FOUR_CELL_START * q_target, Point(np.zeros(d.size), 0.0, 0.0), counts,
+                                 describe)
+
+        def cells(x: np.ndarray) -> int:
+            nv = d.scalar.N
+            psi = _stream_function(d, kappa, x[:nv], x[2 * nv:3 * nv])[d.node_dofs] * scale_v * length
+            return len(find_vortices(d.out_points * length, d.out_triangles, psi, _boundary_nodes(d),
+                                     floor=PSI_FLOOR * u_mean * length))
+
+        try:
+            end, found = four_cell(d, kappa, q_target, start, cells, counts)
+        except FourCellNotFound as exc:
+            folds = ", ".join(f"{de_of(f * q_target):.4g}" for f in exc.folds)
+            passed = f"limit points of the symmetric branch passed at De = {folds}" if folds else \
+                "no limit point of the symmetric branch below this flow"
+            raise FourCellNotFound(
+                f"section flow: no four-cell state found at {flow_rate * 6e7:.4g} mL/min (De = {de_of(q_target):.4g}) "
+                f"on this grid ({passed}); four-cell flows exist "
+                "only above a Dean number (Winters 1987): try a higher flow, or the primary branch") from None
+        extra["limit_points_dean"] = [de_of(f * q_target) for f in found["limit_points_flow_ratio"]]
+        extra["full_residual"] = float(np.max(np.abs(eq.residual(d.tables, kappa, end.x, end.g)[d.free])))
+    else:
+        try:
+            end = continuation(d, kappa, q_target, start, counts, describe)
+        except FlowNotConverged:
+            end = by_jumps(d, kappa, q_target, start, counts, describe)
     x, g = end.x, end.g
-    info: dict[str, Any] = counts.as_dict()
+    info: dict[str, Any] = {**counts.as_dict(), **extra}
     g_straight = _straight_gradient(d, q_target)
     flow = _assemble_result(d, shape, radius, density, viscosity, flow_rate, kappa, x, g, g_straight,
                             scale_v, re, grid, discretisation, end)
     info["solve_seconds"] = time.perf_counter() - t0
     info["method"] = ("bordered Newton on (velocity, pressure, G) with the flow-rate condition as the extra "
                       "equation (sparse LU, SuperLU; chord steps near convergence); continuation in the flow "
-                      "rate along the tangent")
+                      "rate along the tangent"
+                      + ("; four-cell branch: pseudo-arclength continuation of the mirror-symmetric states in the "
+                         "flow rate round the limit points (flow/branch.py)" if branch == "four-cell" else ""))
     error = None
     if estimate_error is None:
         estimate_error = discretisation == "reference" and made_default
     if estimate_error:
-        error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation)
+        error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation, branch)
     return _replace(flow, solver=info, error=error)
 
 
@@ -197,14 +242,18 @@ ERROR_KEYS = ("secondary_max", "secondary_mean", "dpds", "max_streamwise")
 
 
 def _richardson(flow: SectionFlow, section: Any, grid: SectionGrid, radius: float | None, density: float,
-                viscosity: float, flow_rate: float, discretisation: str) -> dict[str, Any] | None:
+                viscosity: float, flow_rate: float, discretisation: str, branch: str = "primary") -> dict[str, Any] | None:
     """Relative error estimates |f_h - f_2h| / (2^p - 1) / |f_h| from a grid with half the cells."""
     if grid.shape is None:
         return {"method": "not estimated: the grid is not structured", "relative": None}
     nx, nz = grid.shape
     coarse_grid = default_grid(section, max(2, nx // 2), max(2, nz // 2))
-    coarse = solve_section_flow(section, radius, density, viscosity, flow_rate, coarse_grid, discretisation,
-                                estimate_error=False)
+    try:
+        coarse = solve_section_flow(section, radius, density, viscosity, flow_rate, coarse_grid, discretisation,
+                                    estimate_error=False, branch=branch)
+    except FourCellNotFound:
+        return {"method": f"not estimated: no four-cell state on the coarse grid {coarse_grid.description}",
+                "relative": None}
     factor = 2.0**ORDER_ASSUMED - 1.0
     rel = {}
     still = flow.radius is None  # no secondary flow: its relative error is round-off over round-off
@@ -222,14 +271,15 @@ def _richardson(flow: SectionFlow, section: Any, grid: SectionGrid, radius: floa
 
 def flow_range(section: Any, radius: float | None, density: float, viscosity: float, flow_rates: Sequence[float],
                grid: SectionGrid | None = None, discretisation: str = "reference",
-               estimate_error: bool = False) -> list[SectionFlow]:
-    """Solutions at each of ``flow_rates`` (ascending is best), each started from the previous one."""
+               estimate_error: bool = False, branch: str = "primary") -> list[SectionFlow]:
+    """Solutions at each of ``flow_rates`` (ascending is best), each started from the previous one
+    (on the four-cell ``branch``, from the previous four-cell state)."""
     out: list[SectionFlow] = []
     grid = default_grid(shape_of(section)) if grid is None else grid
     prev: SectionFlow | None = None
     for q in flow_rates:
         start = prev if prev is not None and prev.flow_rate <= q else None
         prev = solve_section_flow(section, radius, density, viscosity, float(q), grid, discretisation, start,
-                                  estimate_error=estimate_error)
+                                  estimate_error=estimate_error, branch=branch)
         out.append(prev)
     return out

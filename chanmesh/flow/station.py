@@ -92,13 +92,15 @@ def parse_range(key: str, text: str, area: float) -> list[float] | None:
 
 
 def solve_station(problem: StationProblem, rate: float, grid: SectionGrid | None = None,
-                  estimate_error: bool | None = None) -> SectionFlow:
+                  estimate_error: bool | None = None, branch: str = "primary") -> SectionFlow:
     return solve_section_flow(problem.shape, problem.radius, problem.fluid.density, problem.fluid.viscosity, rate,
-                              grid=grid, estimate_error=estimate_error)
+                              grid=grid, estimate_error=estimate_error, branch=branch)
 
 
-def solve_station_range(problem: StationProblem, rates: Sequence[float], grid: SectionGrid | None = None) -> list[SectionFlow]:
-    return flow_range(problem.shape, problem.radius, problem.fluid.density, problem.fluid.viscosity, rates, grid=grid)
+def solve_station_range(problem: StationProblem, rates: Sequence[float], grid: SectionGrid | None = None,
+                        branch: str = "primary") -> list[SectionFlow]:
+    return flow_range(problem.shape, problem.radius, problem.fluid.density, problem.fluid.viscosity, rates, grid=grid,
+                      branch=branch)
 
 
 def grid_for(problem: StationProblem, cells_across: int | None, cells_high: int | None) -> SectionGrid | None:
