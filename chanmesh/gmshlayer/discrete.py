@@ -1,8 +1,9 @@
 """Load a ``ChannelMesh`` into gmsh as discrete entities, so gmsh's own writers can save it.
 
 One discrete volume per volume group and one discrete surface per surface group, each its own
-named physical group; this is how MSH 4.1, SU2, MED and CGNS keep the group names (measured:
-1 M hexahedra loaded and written as MSH 4.1 in about 0.3 s).
+named physical group; this is how MSH, SU2, MED and CGNS keep the group names. (Measured on
+857 k hexahedra: loading 2.1 s, writing MSH 4.1 ASCII 0.6 s on a quiet machine; the default
+MSH 4.1 ASCII is therefore written by ``writers.msh41`` in numpy, the same bytes.)
 """
 
 from __future__ import annotations
