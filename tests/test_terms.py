@@ -23,26 +23,14 @@ import pyvista as pv
 from chanmesh.cli import main
 from chanmesh.report import REPORT
 from chanmesh.terms import count_phrase, forbidden_in, metric_label
+from conftest import design_text
 from synthetic_flow import arc_field, duct_flow_rate
 
 W, H, R = 150e-6, 60e-6, 1200e-6
 
-DESIGN = f"""name = "terms-arc"
-unit = "um"
-[section]
-width = {W * 1e6:g}
-height = {H * 1e6:g}
-[path]
-kind = "arc"
-radius = {R * 1e6:g}
-angle = 60
-[mesh]
-cells = "hex"
-cells_across = 4
-[flow]
-rate = "100uL/min"
-particles = ["10um"]
-"""
+DESIGN = design_text("arc", name="terms-arc", section={"width": W * 1e6, "height": H * 1e6},
+                     path={"radius": R * 1e6, "angle": 60}, mesh={"cells": "hex", "cells_across": 4},
+                     flow={"rate": "100uL/min", "particles": ["10um"]})
 # (invented demo design: an arc 150 x 60 um, no lead, so the synthetic arc field centred at the
 # origin fits it)
 

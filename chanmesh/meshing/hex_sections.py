@@ -65,8 +65,17 @@ def _free_layer(s: np.ndarray, anchors: dict[int, float], st: float) -> int:
     return lo + int(np.argmin(np.abs(s[lo:hi + 1] - st)))
 
 
-def _quad_faces(mesh: ChannelMesh) -> np.ndarray:
-    faces = [b.cells[:, np.array(FACES["hexahedron"][1])].reshape(-1, 4) for b in mesh.volumes if b.type == "hexahedron"]
+def _quad_faces_on(mesh: ChannelMesh, on: np.ndarray) -> np.ndarray:
+    """Each quad face (once) of the hexahedra whose four corners are all ``on`` (bool per node).
+    Only cells with four or more corners on are looked at: linear in the mesh, a few rows sorted."""
+    faces = []
+    corners = np.array(FACES["hexahedron"][1])
+    for b in mesh.volumes:
+        if b.type != "hexahedron":
+            continue
+        touching = b.cells[on[b.cells].sum(axis=1) >= 4]
+        quads = touching[:, corners].reshape(-1, 4)
+        faces.append(quads[np.all(on[quads], axis=1)])
     if not faces:
         return np.zeros((0, 4), np.int64)
     all_faces = np.concatenate(faces)
@@ -85,8 +94,7 @@ def section_quads(mesh: ChannelMesh, design: Design, s: float) -> np.ndarray:
     u, v = d @ n, d[:, 2]
     on = (np.abs(d @ t) < tol) & (u > outline.u0 - tol) & (u < outline.u1 + tol)
     on &= (v > outline.bottom - tol) & (v < np.asarray(outline.top(np.clip(u, outline.u0, outline.u1))) + tol)
-    quads = _quad_faces(mesh)
-    return quads[np.all(on[quads], axis=1)]
+    return _quad_faces_on(mesh, on)
 
 
 def tag_section_layers(mesh: ChannelMesh, design: Design, stations: list[float]) -> ChannelMesh:
