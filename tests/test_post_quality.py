@@ -120,3 +120,15 @@ def test_wall_heights_a_few_ulps_apart_still_give_histograms():
     hist = q.histograms["wall_cell_m"]
     assert sum(hist["counts"]) == 4 and len(hist["edges"]) == 31
     assert hist["edges"][0] < q.wall_cell_min <= q.wall_cell_max < hist["edges"][-1]
+
+
+def test_cell_centres_are_numpys_node_means_to_the_last_bit():
+    """The centres behind the non-orthogonality come from the batch geometry; they must be
+    numpy's own ``points[cells].mean(axis=1)`` bit for bit (the reference: numpy), so that the
+    figures do not move when the code does."""
+    from chanmesh.post.quality import _CellGeometry, _node_means
+
+    points, cells = _jiggled_spiral()
+    assert np.array_equal(_node_means(_CellGeometry(points, cells)), points[cells].mean(axis=1))
+    tets = cells[:, [0, 1, 3, 4]]
+    assert np.array_equal(_node_means(_CellGeometry(points, tets)), points[tets].mean(axis=1))

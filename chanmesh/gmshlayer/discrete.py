@@ -1,8 +1,9 @@
 """Load a ``ChannelMesh`` into gmsh as discrete entities, so gmsh's own writers can save it.
 
 One discrete volume per volume group and one discrete surface per surface group, each its own
-named physical group; this is how MSH 4.1, SU2, MED and CGNS keep the group names (measured:
-1 M hexahedra loaded and written as MSH 4.1 in about 0.3 s).
+named physical group; this is how MSH, SU2, MED and CGNS keep the group names. Loading is
+most of the cost (1 M hexahedra: about 2.5 s to load and write MSH 4.1 ASCII, bench/RESULTS.md),
+so the default MSH 4.1 ASCII is written by ``writers.msh41`` in numpy instead (the same bytes).
 """
 
 from __future__ import annotations
