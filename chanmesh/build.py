@@ -11,6 +11,7 @@ duration and the total (``StageClock.durations``).
 from __future__ import annotations
 
 import json
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
@@ -24,6 +25,7 @@ from chanmesh.meshing.registry import mesher_for
 from chanmesh.meshing.verify import check_boundary_tagging
 from chanmesh.progress import StageClock
 from chanmesh.report import write_report
+from chanmesh.report.html import report_pictures
 from chanmesh.safeio import StagedOutput
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
 
@@ -63,6 +65,13 @@ MANIFEST_HOOKS: list[tuple[str, ManifestHook]] = [("quality", _quality), ("numbe
 figure (chanmesh.resolution: the section flow on the mesh's own section grid), ... Each hook
 returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
 recorded as {"skipped": message} instead of failing the build."""
+
+
+BACKGROUND_HOOKS = frozenset({"resolution"})
+"""Hooks that read only the design and the finished mesh, started in a thread as soon as the
+mesh exists so that their solves (scipy's sparse LU runs without the GIL) overlap the tagging
+check and the quality figures on a second core; their stage then times only the wait. The
+report's plan and 3D pictures are drawn in the same thread after them."""
 
 
 @dataclass(frozen=True)
@@ -112,6 +121,10 @@ def build(
     estimate = check_estimate(design, scale)
     with StagedOutput(Path(out)) as staged:
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
+        pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="chanmesh-hook")
+        ahead = {name: pool.submit(hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
+        pictures = pool.submit(report_pictures, design, mesh)  # matplotlib: only this thread draws until the report
+        pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("checking")
         counts = check_boundary_tagging(mesh)
         mesh.info["estimated_cells"] = estimate
@@ -120,7 +133,7 @@ def build(
         for name, hook in MANIFEST_HOOKS:
             clock(name)
             try:
-                extra[name] = hook(design, mesh)
+                extra[name] = ahead[name].result() if name in ahead else hook(design, mesh)
             except DesignError as exc:
                 extra[name] = {"skipped": str(exc)}
         forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
@@ -132,7 +145,7 @@ def build(
             files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         clock("report")
         draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
-        files.append(write_report(staged.stage, design, mesh, draft, files))
+        files.append(write_report(staged.stage, design, mesh, draft, files, pictures.result()))
         clock("manifest")
         manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")

@@ -285,10 +285,17 @@ def _is_length(key: str) -> bool:
     return key.startswith(("wall_cell", "core_cell"))
 
 
-def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> str:
-    """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used)."""
-    plan = plan_picture(design, 1100, 720).png
-    view = mesh_picture(mesh, design, 1100, 720)
+def report_pictures(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
+    """The plan view and the 3D view of the report (PNG): they need only the design and the
+    mesh, so a build can draw them while it checks and writes (``build.BACKGROUND_HOOKS``)."""
+    return plan_picture(design, 1100, 720).png, mesh_picture(mesh, design, 1100, 720)
+
+
+def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path],
+                pictures: tuple[bytes, bytes] | None = None) -> str:
+    """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used);
+    ``pictures``: ``report_pictures(design, mesh)`` when already drawn."""
+    plan, view = pictures or report_pictures(design, mesh)
     cells = [[cell_word(t, n), n] for t, n in manifest["cells"].items()] + [["points", manifest["points"]]]
     info = manifest.get("mesher", {})
     mesher_rows = [
@@ -335,10 +342,11 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
     return "\n".join(p for p in parts if p) + "\n"
 
 
-def write_report(folder: Path, design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path]) -> Path:
+def write_report(folder: Path, design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path],
+                 pictures: tuple[bytes, bytes] | None = None) -> Path:
     """Write ``folder/report.html`` and return its path (the build stages the folder)."""
     path = Path(folder) / REPORT
-    path.write_text(report_html(design, mesh, manifest, files), encoding="utf-8")
+    path.write_text(report_html(design, mesh, manifest, files, pictures), encoding="utf-8")
     return path
 
 
