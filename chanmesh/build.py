@@ -123,8 +123,6 @@ def build(
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
         pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="chanmesh-hook")
         ahead = {name: pool.submit(hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
-        pictures = pool.submit(report_pictures, design, mesh)  # matplotlib: only this thread draws until the report
-        pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("checking")
         counts = check_boundary_tagging(mesh)
         mesh.info["estimated_cells"] = estimate
@@ -137,6 +135,10 @@ def build(
             except DesignError as exc:
                 extra[name] = {"skipped": str(exc)}
         forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
+        # after the quality figures, whose batches are the build's memory peak: the pictures
+        # overlap the writers instead (matplotlib: only this thread draws until the report)
+        pictures = pool.submit(report_pictures, design, mesh)
+        pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("measuring")
         groups = group_records(design, mesh)
         files: list[Path] = []
