@@ -66,12 +66,8 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0,
             if len(cells):
                 blocks.append((gi, cells))
     total = sum(len(c) for _, c in blocks)
-    if keep is not None and blocks:  # a close-up: carry only the nodes its facets use
-        used = np.unique(np.concatenate([c.ravel() for _, c in blocks]))
-        points = points[used]
-        blocks = [(g, np.searchsorted(used, c)) for g, c in blocks]
     if total <= limit:
-        return DrawingSurface(points, _by_name(names, blocks), total, 0.0)
+        return _compact(points, _by_name(names, blocks), total, 0.0)
     # each group merged on its own, to its share of the limit but never below a few hundred
     # facets, so that a small port or a section face stays visible beside a large wall
     corners = np.concatenate([c.ravel() for _, c in blocks])
@@ -91,7 +87,18 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0,
         out += [(g, c + offset) for g, c in merged]
         offset += len(merged_points)
         cube = max(cube, side)
-    return DrawingSurface(np.concatenate(parts), _by_name(names, out), total, cube)
+    return _compact(np.concatenate(parts), _by_name(names, out), total, cube)
+
+
+def _compact(points: np.ndarray, polygons: dict[str, list[np.ndarray]], total: int, cube: float) -> DrawingSurface:
+    """The surface carrying only the nodes its polygons use (not every node of the mesh), so
+    that drawing projects a surface's worth of points."""
+    blocks = [c for cells in polygons.values() for c in cells]
+    if not blocks:
+        return DrawingSurface(points[:0], polygons, total, cube)
+    used = np.unique(np.concatenate([c.ravel() for c in blocks]))
+    return DrawingSurface(points[used], {n: [np.searchsorted(used, c) for c in cells] for n, cells in polygons.items()},
+                          total, cube)
 
 
 def _merge(points: np.ndarray, blocks: list[tuple[int, np.ndarray]], limit: int,
@@ -116,7 +123,7 @@ def _by_name(names: list[str], blocks: list[tuple[int, np.ndarray]]) -> dict[str
     return {n: b for n, b in out.items() if b}
 
 
-def _normals(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
+def facet_normals(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
     """Area-weighted normals (not unit) of triangles or quadrilaterals (diagonal cross product)."""
     p = points[cells]
     if cells.shape[1] == 3:
@@ -125,7 +132,7 @@ def _normals(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
 
 
 def _facet_areas(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
-    return np.linalg.norm(_normals(points, cells), axis=1)
+    return np.linalg.norm(facet_normals(points, cells), axis=1)
 
 
 def _cluster(points: np.ndarray, blocks: list[tuple[int, np.ndarray]], cube: float,
@@ -141,7 +148,7 @@ def _cluster(points: np.ndarray, blocks: list[tuple[int, np.ndarray]], cube: flo
     n_vox = int(span[0] * span[1] * span[2])
     keys, corners, shapes = [], [], []
     for gi, cells in blocks:
-        n = _normals(points, cells)
+        n = facet_normals(points, cells)
         axis = np.argmax(np.abs(n), axis=1)
         sign = n[np.arange(len(n)), axis] > 0
         cls = (gi * 6 + 2 * axis + sign).astype(np.int64)

@@ -38,7 +38,7 @@ from matplotlib.patches import Patch  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
-from chanmesh.report.drawing_surface import DrawingSurface, drawing_surface, surface_groups  # noqa: E402
+from chanmesh.report.drawing_surface import DrawingSurface, drawing_surface, facet_normals, surface_groups  # noqa: E402
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
 
@@ -166,9 +166,7 @@ def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dic
         base = np.array(to_rgb(colours[name]))
         edge = np.array(to_rgb(WALL_EDGE)) if name == "wall" else _edge_colour(base)
         for c in blocks:
-            corners = p[c]
-            normal = np.cross(corners[:, 2] - corners[:, 0], corners[:, -1] - corners[:, 1] if c.shape[1] > 3
-                              else corners[:, 1] - corners[:, 0])
+            normal = facet_normals(p, c)
             normal /= np.maximum(np.linalg.norm(normal, axis=1), 1e-300)[:, None]
             shade = 0.6 + 0.4 * np.abs(normal @ light)  # two-sided Lambert with ambient
             polys.append(screen[c if c.shape[1] == 4 else c[:, [0, 1, 2, 2]]])  # one (n, 4, 2) array: matplotlib's fast path
@@ -184,8 +182,7 @@ def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dic
         edgecolors=np.concatenate(edge_colours)[back_to_front],
         linewidths=linewidth,
     ))
-    used = np.unique(np.concatenate([c.ravel() for blocks in surface.polygons.values() for c in blocks]))
-    _equal_limits(ax, screen[used].min(axis=0), screen[used].max(axis=0))
+    _equal_limits(ax, screen.min(axis=0), screen.max(axis=0))  # a drawing surface carries only its own nodes
     ax.set_axis_off()
 
 
@@ -210,7 +207,7 @@ def closeup_surface(mesh: ChannelMesh, design: Design, port: str,
     p = mesh.points * 1e3
     port_nodes = np.unique(np.concatenate([b.cells.ravel() for b in mesh.facets_of(port)]))
     centre = p[port_nodes].mean(axis=0)
-    normal = sum((_unit_normal_sum(p, b.cells) for b in mesh.facets_of(port)), np.zeros(3))
+    normal = sum((facet_normals(p, b.cells).sum(axis=0) for b in mesh.facets_of(port)), np.zeros(3))
     line = centerline_of(design)
     guess = -line.tangents(np.array([0.0]))[0] if port.startswith("inlet") else line.tangents(np.array([line.length]))[0]
     outward = normal if normal @ guess >= 0 else -normal
@@ -245,12 +242,6 @@ def _attached(blocks: list[np.ndarray], near: np.ndarray, seeds: np.ndarray, n_p
     graph = coo_matrix((np.ones(len(r)), (r, offset + k)), shape=(n, n))
     _, label = connected_components(graph, directed=False)
     return np.isin(label[:offset], label[offset + seeds])
-
-
-def _unit_normal_sum(p: np.ndarray, cells: np.ndarray) -> np.ndarray:
-    c = p[cells]
-    n = np.cross(c[:, 2] - c[:, 0], c[:, -1] - c[:, 1] if cells.shape[1] > 3 else c[:, 1] - c[:, 0])
-    return n.sum(axis=0)
 
 
 def _equal_limits(ax, lo: np.ndarray, hi: np.ndarray, margin: float = 0.04) -> None:  # type: ignore[no-untyped-def]
