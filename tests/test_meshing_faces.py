@@ -7,10 +7,11 @@ import pytest
 from _hex_designs import hex_design
 from conftest import small_design
 
-from chanmesh.meshing.faces import face_table
+from chanmesh.meshing.faces import face_table, forget_face_tables
 from chanmesh.meshing.hex import mesh_hex
 from chanmesh.meshing.model import Block, ChannelMesh
 from chanmesh.meshing.registry import mesher_for
+from chanmesh.meshing.sweep_grid import cells_follow_grid, sweep_partner
 from chanmesh.meshing.verify import MeshCheckError, all_faces, check_boundary_tagging
 
 
@@ -45,7 +46,30 @@ def test_face_table_survives_hash_collisions(monkeypatch):
     import chanmesh.meshing.faces as faces
 
     monkeypatch.setattr(faces, "face_hash", lambda cols: np.zeros(len(cols[0]), np.uint64))
-    _check_against_unique(mesh_hex(hex_design("arc")))
+    mesh = mesh_hex(hex_design("arc"))
+    mesh.sweep = None  # hash pairing, not the grid's
+    _check_against_unique(mesh)
+
+
+@pytest.mark.parametrize("kind", ["arc", "chambers", "serpentine"])
+def test_grid_pairing_equals_hash_pairing(kind):
+    """The pairing read from the sweep's indices is the hash pairing, slot for slot."""
+    mesh = mesh_hex(hex_design(kind))
+    assert mesh.sweep is not None and cells_follow_grid(mesh.sweep, mesh.volumes[0].cells)
+    from_grid = face_table(mesh, 4).partner
+    forget_face_tables(mesh)
+    mesh.sweep = None
+    assert np.array_equal(from_grid, face_table(mesh, 4).partner)
+
+
+def test_grid_pairing_is_not_trusted_when_the_cells_moved():
+    """Cells that no longer follow the grid (here two cells swapped) are paired by hashing."""
+    mesh = mesh_hex(hex_design("chambers"))
+    cells = mesh.volumes[0].cells
+    mesh.volumes[0].cells = np.concatenate([cells[1:2], cells[:1], cells[2:]])
+    assert not cells_follow_grid(mesh.sweep, mesh.volumes[0].cells)
+    assert sweep_partner(mesh.sweep, mesh.volumes[0].cells) is None
+    _check_against_unique(mesh)
 
 
 def test_an_untagged_and_a_doubly_tagged_facet_are_refused():
@@ -73,3 +97,40 @@ def test_face_table_over_several_volume_blocks():
     table = face_table(split, 4)
     slots = np.arange(len(table.partner))
     assert np.array_equal(table.owner(slots), slots // 6)  # six quads a hexahedron, cells in order
+
+
+@pytest.mark.parametrize("name", ["asymmetric-serpentine", "chamber-array", "spiral-sorter", "two-inlet-spiral"])
+def test_grid_pairing_equals_hash_pairing_on_the_templates(name):
+    """Templates carry sections, split ends and masked chamber columns: same pairing both ways."""
+    from pathlib import Path
+
+    from chanmesh.design import load_design
+
+    design = load_design(Path(__file__).parents[1] / "templates" / f"{name}.toml")
+    mesh = mesh_hex(design, scale=0.1)
+    from_grid = face_table(mesh, 4).partner
+    forget_face_tables(mesh)
+    mesh.sweep = None
+    assert np.array_equal(from_grid, face_table(mesh, 4).partner)
+    sections = [g.tag for g in mesh.groups if g.name.startswith("section_")]
+    boundary = sum(int(np.sum(~np.isin(b.tags, sections))) for b in mesh.facets)
+    assert check_boundary_tagging(mesh)["boundary_facets"] == boundary
+
+
+def test_a_face_pairing_that_misses_a_shared_face_is_refused(monkeypatch):
+    """If the pairing (here the grid's, broken on purpose) misses a face two cells share, both
+    copies look like boundary faces: the check finds them equal and refuses the mesh."""
+    import chanmesh.meshing.faces as faces
+
+    good = faces.sweep_partner
+
+    def broken(grid, cells):
+        partner = good(grid, cells).copy()
+        inner = int(np.flatnonzero(partner >= 0)[0])
+        partner[partner[inner]] = -1
+        partner[inner] = -1
+        return partner
+
+    monkeypatch.setattr(faces, "sweep_partner", broken)
+    with pytest.raises(MeshCheckError, match="taken for boundary faces"):
+        check_boundary_tagging(mesh_hex(hex_design("arc")))

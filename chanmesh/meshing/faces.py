@@ -16,6 +16,10 @@ How (no argsort, no int64 copies of the cell arrays):
    paired exactly by ``post.facepairs.pair_faces``.
 
 A slot whose hash bits no other slot has cannot have a partner: it is a boundary face.
+
+A mesh of the hexahedral mesher carries its grid (``ChannelMesh.sweep``); its faces are paired
+from the grid indices instead, once its cells are proven to be the grid's
+(``meshing.sweep_grid``): same answer, no hashing.
 """
 
 from __future__ import annotations
@@ -25,6 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
+from chanmesh.meshing.sweep_grid import sweep_partner
 
 FACES = {
     "tetra": ([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]], []),
@@ -222,7 +227,10 @@ def face_table(mesh: ChannelMesh, size: int) -> FaceTable | None:
     table = None
     if n:
         table = FaceTable(size, parts, np.empty(0, np.int64))
-        table.partner = _pair(table, n)
+        partner = None
+        if size == 4 and mesh.sweep is not None and len(arrays) == 1 and mesh.volumes[0].type == "hexahedron":
+            partner = sweep_partner(mesh.sweep, arrays[0])  # None unless the cells follow the grid
+        table.partner = _pair(table, n) if partner is None else partner
     cache[size] = (arrays, table)
     return table
 

@@ -21,6 +21,7 @@ from chanmesh.geometry.centerline import centerline_of
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.meshing.hexplan import HexPlan, plan_hex
 from chanmesh.meshing.hex_sections import tag_section_layers
+from chanmesh.meshing.sweep_grid import SweepGrid, grid_cells
 from chanmesh.geometry.stations import mesh_station_arc_lengths
 from chanmesh.meshing.model import Block, ChannelMesh, Group
 from chanmesh.meshing.verify import FACES
@@ -50,12 +51,6 @@ def grid_points(design: Design, plan: HexPlan) -> np.ndarray:
     pts[..., 1] = c[:, None, None, 1] + plan.u[None, :, None] * n[:, None, None, 1]
     pts[..., 2] = v[None, :, :]
     return pts
-
-
-def _offsets(ni: int, nj: int) -> np.ndarray:
-    """Index offsets of the eight corners from corner 0, node (k, i, j) -> (k (ni+1) + i)(nj+1) + j."""
-    di, dk = nj + 1, (ni + 1) * (nj + 1)
-    return np.array([0, di, dk + di, dk, 1, di + 1, dk + di + 1, dk + 1], dtype=np.int64)
 
 
 def _corner0(nk: int, ni: int, nj: int) -> np.ndarray:
@@ -121,14 +116,12 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
         raise too_many_cells(design, count, scale)
     say("nodes")
     nk, ni, nj = plan.shape
+    grid = SweepGrid(plan.shape, plan.cell_mask())
     points = grid_points(design, plan).reshape(-1, 3)
-    offsets = _offsets(ni, nj)
-    corner0 = _corner0(nk, ni, nj)
+    offsets = grid.node_offsets()
     say("cells")
-    col = plan.cell_mask()
-    base = corner0.reshape(-1) if col is None else corner0[col].reshape(-1)
-    cells = base[:, None] + offsets[None, :]
-    faces = _boundary_faces(plan, corner0, offsets)
+    cells = grid_cells(grid)
+    faces = _boundary_faces(plan, _corner0(nk, ni, nj), offsets)
     pieces = _split_end(plan, np.concatenate(faces["inlet"]), design.inlets.names, plan.inlet_nodes)
     pieces += _split_end(plan, np.concatenate(faces["outlet"]), design.outlets.names, plan.outlet_nodes)
     pieces.append(("wall", np.concatenate(faces["wall"])))
@@ -136,11 +129,9 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     fluid = Group("fluid", 3, len(pieces) + 1)
     quad_cells = np.concatenate([q for _, q in pieces])
     quad_tags = np.concatenate([np.full(len(q), g.tag, np.int64) for g, (_, q) in zip(groups, pieces)])
-    if col is not None:  # drop the nodes of absent side-band cells, keeping the order
-        used = np.zeros(len(points), bool)
-        used[cells.reshape(-1)] = True
-        remap = np.cumsum(used) - 1
-        points, cells, quad_cells = points[used], remap[cells], remap[quad_cells]
+    if grid.columns is not None:  # drop the nodes of absent side-band cells, keeping the order
+        numbers = grid.node_numbers()
+        points, quad_cells = points[numbers >= 0], numbers[quad_cells]
     mesh = ChannelMesh(
         points,
         [Block("hexahedron", cells, np.full(len(cells), fluid.tag, np.int64))],
@@ -148,6 +139,7 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
         groups + [fluid],
     )
     mesh = tag_section_layers(mesh, design, mesh_station_arc_lengths(design))
+    mesh.sweep = grid  # lets meshing.faces pair the faces from the indices (after checking them)
     mesh.info.update(
         {
             "mesher": "hexahedra (structured sweep, numpy)",

@@ -11,6 +11,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from chanmesh.meshing.sweep_grid import SweepGrid
+
 VOLUME_TYPES = {"tetra": 4, "hexahedron": 8, "wedge": 6}
 FACET_TYPES = {"triangle": 3, "quad": 4}
 
@@ -40,6 +42,7 @@ class ChannelMesh:
     facets: list[Block]
     groups: list[Group]
     info: dict = field(default_factory=dict)  # mesher notes (algorithm, sizes), copied into the manifest
+    sweep: SweepGrid | None = None  # the hexahedral mesher's grid, when the cells follow one (faster face pairing)
 
     def __post_init__(self) -> None:
         self.points = np.ascontiguousarray(self.points, dtype=np.float64)

@@ -78,6 +78,9 @@ def _match(boundary: np.ndarray, tagged: np.ndarray, ftype: str) -> None:
     except ValueError:  # the same face three times: a boundary face tagged twice
         uniq, tcount = np.unique(np.sort(tagged, axis=1), axis=0, return_counts=True)
         raise MeshCheckError(f"{int(np.sum(tcount > 1))} boundary {ftype}s carry more than one group") from None
+    inside = int(np.sum((partner[:nb] >= 0) & (partner[:nb] < nb)))  # "boundary" faces paired with each other
+    if inside:
+        raise MeshCheckError(f"{inside // 2} {ftype}s shared by two cells were taken for boundary faces")
     twice = int(np.sum(partner[nb:] >= nb))  # tagged facets paired with each other
     if twice:
         raise MeshCheckError(f"{twice // 2} boundary {ftype}s carry more than one group")
