@@ -6,12 +6,13 @@ the face normal points out of the owner; an internal face also has a neighbour, 
 owner < neighbour. Internal faces come first, in upper-triangular order (by owner, then by
 neighbour); boundary faces follow, grouped per patch (OpenFOAM User Guide, "Mesh description").
 
-How the faces are found: every face of every cell is listed in the cell's outward node order
-(``meshing.verify.FACES``), the copies of one face are paired by their three smallest nodes
-(``post.facepairs.pair_keys``, a hash-and-sort), the copy from the lower-numbered cell of a
-pair is kept (so it points out of the owner), and faces without a partner are the boundary.
-Boundary faces take the group of the boundary facet with the same nodes; internal faces that
-are facets of a ``section_*`` group form that group's face zone.
+How the faces are found: the face table of ``meshing.faces`` (shared with the tagging check
+and the quality figures, made once per mesh) pairs every face slot (cell, local face, in the
+cell's outward node order) with the slot of the neighbouring cell. The lower slot of a pair
+belongs to the lower-numbered cell, so it is kept (it points out of the owner); slots
+without a partner are the boundary. Boundary faces take the group of the boundary facet with
+the same nodes; internal faces that are facets of a ``section_*`` group form that group's face
+zone. Boundary faces of one patch and one owner keep the order of their local faces.
 """
 
 from __future__ import annotations
@@ -21,8 +22,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.errors import ChanmeshError
+from chanmesh.meshing.faces import CHUNK, FaceTable, face_table
 from chanmesh.meshing.model import ChannelMesh, Group
-from chanmesh.meshing.verify import FACES, INTERNAL_PREFIX
+from chanmesh.meshing.verify import INTERNAL_PREFIX
 from chanmesh.post.facepairs import match_keys, sorted_order, three_smallest_columns
 
 
@@ -72,34 +74,6 @@ def patch_type(group: Group) -> str:
     return "wall" if group.name == "wall" or group.name.startswith("wall_") else "patch"
 
 
-@dataclass
-class _Faces:
-    """Faces of one size (3 or 4 nodes) as node columns, with the cell each copy belongs to."""
-
-    cols: list[np.ndarray]
-    cell: np.ndarray
-
-
-def _cell_faces(mesh: ChannelMesh, size: int, dtype: type) -> _Faces | None:
-    """Every face of ``size`` nodes of every volume cell, in the cell's outward order."""
-    cols: list[list[np.ndarray]] = [[] for _ in range(size)]
-    cells: list[np.ndarray] = []
-    offset = 0
-    for block in mesh.volumes:
-        local = FACES[block.type][0 if size == 3 else 1]
-        if local:
-            corners = np.ascontiguousarray(block.cells.T, dtype=dtype)  # one row per corner: contiguous gathers
-            ids = np.arange(offset, offset + len(block.cells), dtype=dtype)
-            for face in local:
-                for r, corner in enumerate(face):
-                    cols[r].append(corners[corner])
-                cells.append(ids)
-        offset += len(block.cells)
-    if not cells:
-        return None
-    return _Faces([np.concatenate(c) for c in cols], np.concatenate(cells))
-
-
 def _match(keys: tuple[np.ndarray, ...], facets: np.ndarray, what: str) -> tuple[np.ndarray, np.ndarray]:
     """Pair faces given by their three smallest nodes ``keys`` with facet rows ``facets``:
     (index of the face, index of the facet) for every facet, which must each be one of the faces."""
@@ -141,11 +115,11 @@ def _area_vectors(points: np.ndarray, offsets: np.ndarray, nodes: np.ndarray, fa
 
 @dataclass
 class _Part:
-    """Faces of one size chosen for the polyMesh: which copies (``pick``), their owner, and the
-    neighbour (internal) or patch index (boundary)."""
+    """Faces of one size chosen for the polyMesh: their slots in the face table, their owner,
+    and the neighbour (internal) or patch index (boundary)."""
 
-    faces: _Faces
-    pick: np.ndarray
+    table: FaceTable
+    slots: np.ndarray
     owner: np.ndarray
     other: np.ndarray
 
@@ -167,31 +141,35 @@ def poly_mesh(mesh: ChannelMesh, downstream: dict[str, np.ndarray] | None = None
     internal: list[_Part] = []
     boundary: list[_Part] = []
     for size in (3, 4):
-        faces = _cell_faces(mesh, size, dtype)
-        if faces is None:
+        try:
+            table = face_table(mesh, size)
+        except ValueError as exc:  # three cells on one face
+            raise PolyMeshError(str(exc)) from None
+        if table is None:
             continue
-        a, b, c = three_smallest_columns(faces.cols)
-        first, second, lone = match_keys(a, b, c)
-        c1, c2 = faces.cell[first], faces.cell[second]
+        partner = table.partner
+        first = np.flatnonzero(partner > np.arange(len(partner), dtype=partner.dtype))
+        c1, c2 = table.owner(first), table.owner(partner[first])
         if np.any(c1 == c2):
             raise PolyMeshError("a cell has two faces on the same nodes")
-        swap = c1 > c2  # keep the copy of the lower cell: it points out of the owner
-        internal.append(_Part(faces, np.where(swap, second, first), np.minimum(c1, c2), np.maximum(c1, c2)))
-        del c1, c2, swap, first, second
+        internal.append(_Part(table, first, c1, c2))  # the lower slot is in the lower cell: the owner
+        del c1, c2, first
+        lone = np.flatnonzero(partner < 0)
         facets, ftags = _facets_of_size(mesh, size, {g.tag for g in boundary_groups})
         if len(lone) != len(facets):
             raise PolyMeshError(f"{len(lone)} boundary faces of {size} nodes but {len(facets)} boundary facets")
         if len(facets):
-            face, facet = _match((a[lone], b[lone], c[lone]), facets, "boundary")
+            lone_nodes = table.nodes(lone)
+            face, facet = _match(tuple(three_smallest_columns([lone_nodes[:, r] for r in range(size)])), facets, "boundary")
+            del lone_nodes
             patch = np.empty(len(lone), np.int64)
             patch[face] = lut[ftags[facet]]
-            boundary.append(_Part(faces, lone, faces.cell[lone], patch))
-        del a, b, c, faces
+            boundary.append(_Part(table, lone, table.owner(lone), patch))
 
     # internal faces in upper-triangular order, then boundary faces by patch and owner
     owner_i = _cat([p.owner for p in internal])
     neigh_i = _cat([p.other for p in internal])
-    order_i = sorted_order(owner_i.astype(np.int64) * n_cells + neigh_i)
+    order_i = _upper_triangular_order(owner_i, neigh_i, n_cells)
     owner_b = _cat([p.owner for p in boundary])
     patch_b = _cat([p.other for p in boundary])
     order_b = sorted_order(patch_b * n_cells + owner_b)
@@ -207,6 +185,17 @@ def poly_mesh(mesh: ChannelMesh, downstream: dict[str, np.ndarray] | None = None
     starts = len(neighbour) + np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(np.int64)
     patches = [Patch(g.name, patch_type(g), int(s), int(n)) for g, s, n in zip(boundary_groups, starts, counts)]
     return PolyMesh(points, offsets, nodes, owner, neighbour, n_cells, patches, zones)
+
+
+def _upper_triangular_order(owner: np.ndarray, neighbour: np.ndarray, n_cells: int) -> np.ndarray:
+    """Order of the internal faces by owner, then neighbour (a swept hexahedral mesh gives
+    them in that order already: checked, then no sort)."""
+    if len(owner) < 2:
+        return np.arange(len(owner))
+    same = owner[1:] == owner[:-1]
+    if np.all((owner[1:] > owner[:-1]) | (same & (neighbour[1:] > neighbour[:-1]))):
+        return np.arange(len(owner))
+    return sorted_order(owner.astype(np.int64) * n_cells + neighbour)
 
 
 def _cat(arrays: list[np.ndarray]) -> np.ndarray:
@@ -248,21 +237,22 @@ def _zones(mesh: ChannelMesh, sections: list[Group], offsets: np.ndarray, nodes:
 def _flat_nodes(parts: list[_Part], order: np.ndarray, dtype: type) -> tuple[np.ndarray, np.ndarray]:
     """Nodes of the chosen faces of ``parts`` (concatenated, then taken in ``order``) as one flat
     list and the offsets of each face in it."""
-    sizes = np.concatenate([np.full(len(p.pick), len(p.faces.cols), np.int64) for p in parts])[order]
+    sizes = np.concatenate([np.full(len(p.slots), p.table.size, np.int64) for p in parts])[order]
     offsets = np.zeros(len(sizes) + 1, np.int64)
     np.cumsum(sizes, out=offsets[1:])
-    k = max(len(p.faces.cols) for p in parts)
+    k = max(p.table.size for p in parts)
     table = np.full((len(order), k), -1, dtype)
-    if len({len(p.faces.cols) for p in parts}) == 1 and len({id(p.faces) for p in parts}) == 1:
-        pick = np.concatenate([p.pick for p in parts])[order]  # one face list: one gather per column
-        for r in range(k):
-            table[:, r] = parts[0].faces.cols[r][pick]
+    if len({id(p.table) for p in parts}) == 1:  # one face table: gather in the final order
+        slots = np.concatenate([p.slots for p in parts])[order]
+        for lo in range(0, len(slots), CHUNK):
+            table[lo:lo + CHUNK] = parts[0].table.nodes(slots[lo:lo + CHUNK])
     else:
         row = 0
         for p in parts:
-            for r, col in enumerate(p.faces.cols):
-                table[row:row + len(p.pick), r] = col[p.pick]
-            row += len(p.pick)
+            for lo in range(0, len(p.slots), CHUNK):
+                got = p.table.nodes(p.slots[lo:lo + CHUNK])
+                table[row + lo:row + lo + len(got), :got.shape[1]] = got
+            row += len(p.slots)
         table = table[order]
     flat = table.reshape(-1)
     return (flat if k == 3 or np.all(sizes == k) else flat[flat >= 0]), offsets
