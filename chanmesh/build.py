@@ -1,8 +1,9 @@
 """The build: design in, checked and labelled mesh files plus a manifest out.
 
     design -> estimate (refuse above max_cells) -> mesh -> check tagging -> manifest hooks
-           (quality, numbers) -> measure groups (once) -> write formats -> report.html
-           -> manifest -> rename everything into place (manifest last)
+           (numbers; resolution and quality in a second thread) -> measure groups (once)
+           -> write formats -> report.html -> manifest -> rename everything into place
+           (manifest last)
 
 Each arrow is a stage of the ``StageClock``; the manifest's ``timings_s`` holds each stage's
 duration and the total (``StageClock.durations``).
@@ -24,8 +25,6 @@ from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.registry import mesher_for
 from chanmesh.meshing.verify import check_boundary_tagging
 from chanmesh.progress import StageClock
-from chanmesh.report import write_report
-from chanmesh.report.html import report_pictures
 from chanmesh.safeio import StagedOutput
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
 
@@ -67,11 +66,31 @@ returns a JSON-able dict stored under its name; a hook that raises ``DesignError
 recorded as {"skipped": message} instead of failing the build."""
 
 
-BACKGROUND_HOOKS = frozenset({"resolution"})
-"""Hooks that read only the design and the finished mesh, started in a thread as soon as the
-mesh exists so that their solves (scipy's sparse LU runs without the GIL) overlap the tagging
-check and the quality figures on a second core; their stage then times only the wait. The
-report's plan and 3D pictures are drawn in the same thread after them."""
+BACKGROUND_HOOKS = ("resolution",)
+"""Hooks run in a second thread while the main thread checks the mesh, computes the quality
+figures, measures the groups and writes the formats: the resolution figure (its sparse LU runs
+without the GIL) starts as soon as the mesh exists; its stage times only the wait. Before it
+the thread imports the report's modules (matplotlib: about 0.4 s) while the main thread
+meshes, and after it draws the report's plan and 3D pictures. This balances the two threads
+on two cores: at 1 M hexahedra each carries about 3 s of work."""
+
+
+def _report_modules() -> None:
+    import chanmesh.report.html  # noqa: F401  (matplotlib and the report's pictures)
+
+
+def _pictures(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
+    from chanmesh.report.html import report_pictures
+
+    return report_pictures(design, mesh)
+
+
+def _guarded(hook: ManifestHook, design: Design, mesh: ChannelMesh) -> dict[str, Any]:
+    """A hook's section, or {"skipped": message} when it refuses the design."""
+    try:
+        return hook(design, mesh)
+    except DesignError as exc:
+        return {"skipped": str(exc)}
 
 
 @dataclass(frozen=True)
@@ -120,32 +139,37 @@ def build(
         fmt.check_design(design)
     estimate = check_estimate(design, scale)
     with StagedOutput(Path(out)) as staged:
-        mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
         pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="chanmesh-hook")
-        ahead = {name: pool.submit(hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
+        try:
+            pool.submit(_report_modules)
+            mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
+            ahead = {name: pool.submit(_guarded, hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
+            pictures = pool.submit(_pictures, design, mesh)
+        finally:
+            pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("checking")
-        counts = check_boundary_tagging(mesh)
+        counts = check_boundary_tagging(mesh)  # makes the face table the quality figures and writers share
         mesh.info["estimated_cells"] = estimate
         mesh.info.update(counts)
         extra = {}
         for name, hook in MANIFEST_HOOKS:
-            clock(name)
-            try:
-                extra[name] = ahead[name].result() if name in ahead else hook(design, mesh)
-            except DesignError as exc:
-                extra[name] = {"skipped": str(exc)}
-        forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
-        # after the quality figures, whose batches are the build's memory peak: the pictures
-        # overlap the writers instead (matplotlib: only this thread draws until the report)
-        pictures = pool.submit(report_pictures, design, mesh)
-        pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
+            if name not in ahead:
+                clock(name)
+                extra[name] = _guarded(hook, design, mesh)
         clock("measuring")
         groups = group_records(design, mesh)
         files: list[Path] = []
         for fmt in chosen:
             clock(f"writing {fmt.name}")
             files += fmt.write_for(design, mesh, staged.stage, design.name, options)
+        forget_face_tables(mesh)  # shared by the check, the quality figures and the polyMesh writer
+        for name, _hook in MANIFEST_HOOKS:
+            if name in ahead:
+                clock(name)
+                extra[name] = ahead[name].result()
         clock("report")
+        from chanmesh.report import write_report
+
         draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
         files.append(write_report(staged.stage, design, mesh, draft, files, pictures.result()))
         clock("manifest")
