@@ -12,6 +12,7 @@ duration and the total (``StageClock.durations``).
 from __future__ import annotations
 
 import json
+import sys
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
@@ -65,6 +66,12 @@ figure (chanmesh.resolution: the section flow on the mesh's own section grid), .
 returns a JSON-able dict stored under its name; a hook that raises ``DesignError`` is
 recorded as {"skipped": message} instead of failing the build."""
 
+
+SWITCH_INTERVAL_S = 0.0005
+"""How often the interpreter passes the GIL between the build's two threads (Python's default is
+0.005 s). Each numpy call of one thread gives the GIL up and must win it back from a thread
+running Python code (matplotlib); at the default, those waits added seconds to a 1 M-cell
+build (bench/openfoam_write.py)."""
 
 BACKGROUND_HOOKS = ("resolution",)
 """Hooks run in a second thread while the main thread checks the mesh, computes the quality
@@ -138,7 +145,17 @@ def build(
     for fmt in chosen:
         fmt.check_design(design)
     estimate = check_estimate(design, scale)
-    with StagedOutput(Path(out)) as staged:
+    switch = sys.getswitchinterval()
+    try:
+        sys.setswitchinterval(SWITCH_INTERVAL_S)
+        return _build(design, Path(out), chosen, options, scale, clock, request, estimate)
+    finally:
+        sys.setswitchinterval(switch)
+
+
+def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale: float, clock: StageClock,
+           request: dict[str, Any], estimate: int) -> BuildResult:
+    with StagedOutput(out) as staged:
         pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="chanmesh-hook")
         try:
             pool.submit(_report_modules)

@@ -10,11 +10,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import gmsh
 import numpy as np
 
-from chanmesh.gmshlayer.discrete import load_discrete
-from chanmesh.gmshlayer.session import gmsh_session
 from chanmesh.meshing.model import Block, ChannelMesh
 from chanmesh.meshing.verify import INTERNAL_PREFIX
 from chanmesh.writers import WriteOptions, msh41
@@ -35,6 +32,11 @@ def _write(mesh: ChannelMesh, path: Path, options: WriteOptions, msh: bool = Fal
     if msh and options.msh_version == "4.1" and not options.binary and msh41.supports(mesh):
         msh41.write_msh41(mesh, path)
         return [path]
+    import gmsh  # only here: the default MSH needs no gmsh (its import costs 0.1 s and 14 MB)
+
+    from chanmesh.gmshlayer.discrete import load_discrete
+    from chanmesh.gmshlayer.session import gmsh_session
+
     with gmsh_session(threads=1):
         load_discrete(mesh)
         gmsh.option.setNumber("Mesh.SaveAll", 0)
