@@ -173,13 +173,15 @@ def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale
             if name not in ahead:
                 clock(name)
                 extra[name] = _guarded(hook, design, mesh)
+        if not any(fmt.reads_face_table for fmt in chosen):
+            forget_face_tables(mesh)  # made by the check, shared with the quality figures: done
         clock("measuring")
         groups = group_records(design, mesh)
         files: list[Path] = []
         for fmt in chosen:
             clock(f"writing {fmt.name}")
             files += fmt.write_for(design, mesh, staged.stage, design.name, options)
-        forget_face_tables(mesh)  # shared by the check, the quality figures and the polyMesh writer
+        forget_face_tables(mesh)  # kept for the polyMesh writer, if chosen
         for name, _hook in MANIFEST_HOOKS:
             if name in ahead:
                 clock(name)

@@ -35,6 +35,7 @@ class Format:
     source: str = "mesh"  # "mesh": written from the ChannelMesh; "design": from the design's solid; "case": both
     variant: str = ""  # passed on as ``file_format`` (meshio pass-through formats)
     check: str = ""  # optional ``check(design)`` in ``module``, run before meshing (refuse early)
+    reads_face_table: bool = False  # pairs faces (meshing.faces): the build keeps the table for it
 
     def _function(self) -> Callable[..., list[Path]]:
         fn = getattr(importlib.import_module(self.module), self.function)
@@ -73,7 +74,8 @@ FORMATS: dict[str, Format] = {
         Format("step", ".step", _S, "write_step", "STEP AP214 of the channel solid, millimetres (CAD, milling)", False, "design"),
         Format("stl", ".stl", _S, "write_stl", "binary STL of the channel solid, watertight, millimetres", False, "design"),
         Format("mould.stl", ".mould.stl", _S, "write_mould_stl", "binary STL of a casting mould: base plate with the channel standing proud, mm", False, "design"),
-        Format("openfoam", "", "chanmesh.writers.openfoam", "write_openfoam", "OpenFOAM case folder openfoam/: polyMesh, 0/U, 0/p, laminar steady simpleFoam set-up from [flow]", True, "case", check="check_openfoam"),
+        Format("openfoam", "", "chanmesh.writers.openfoam", "write_openfoam", "OpenFOAM case folder openfoam/: polyMesh, 0/U, 0/p, laminar steady simpleFoam set-up from [flow]", True, "case", check="check_openfoam",
+               reads_face_table=True),
         Format("dxf", ".dxf", "chanmesh.writers.dxf", "write_dxf", "DXF plan: channel outline and port punch circles on their own layers (um or mm)", False, "design"),
     )
 }
