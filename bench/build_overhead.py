@@ -2,12 +2,14 @@
 
 Run:  PYTHONPATH=$PWD python bench/build_overhead.py [--cells 1.0] [--root OTHER_TREE ...]
 
-Each measurement runs in a fresh child process, so its peak resident memory (ru_maxrss) is
-its own. In the child: the libraries are imported first (the baseline memory), the hexahedral
-mesher runs once on its own (the mesh generation time), then ``chanmesh.build.build`` writes
-the default formats and the report into a temporary folder. Printed: each stage's duration
-(the manifest's ``timings_s``), the build's total over the mesh generation time, and the peak
-memory per cell, whole and above the baseline.
+Each measurement runs in fresh child processes: one times the hexahedral mesher alone (best of
+``--mesh-repeats``), another imports ``chanmesh.build`` (its resident size then is the
+baseline) and runs ``build`` as the command line does: the default formats and the report,
+into a temporary folder, so its peak resident memory (ru_maxrss) is the build's own. Printed:
+each stage's duration (the manifest's ``timings_s``), the build's wall and CPU time, its wall
+time over the mesh generation time, and the peak memory per cell, whole and above the
+baseline. (Until 2026-12-03 one child did both, after importing gmsh and pyvista as well,
+which a hexahedral build does not use: its baseline was about 70 MB higher.)
 
 ``--root DIR`` (repeatable) runs the same measurement with the chanmesh package of another
 source tree as well, e.g. an export of an older commit, so before/after ratios come from one
@@ -35,20 +37,14 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 
 
-def _child(cells: float, repeats: int) -> dict:
+def _child_mesh(cells: float, repeats: int) -> dict:
+    """The mesh generation time alone (best of ``repeats``), in its own process."""
     sys.path.insert(0, str(HERE))
     from hex_speed import SPIRAL, scale_for  # noqa: E402
 
-    import chanmesh.report.view3d  # noqa: F401  (imports first: the baseline)
-    import gmsh  # noqa: F401
-    import meshio  # noqa: F401
-    import pyvista  # noqa: F401
-    from chanmesh.build import build
     from chanmesh.design import loads_design
     from chanmesh.meshing.registry import mesher_for
-    from chanmesh.progress import StageClock
 
-    base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0
     design = loads_design(SPIRAL)
     scale = scale_for(cells * 1e6)
     t_mesh = float("inf")
@@ -58,11 +54,29 @@ def _child(cells: float, repeats: int) -> dict:
         t_mesh = min(t_mesh, time.perf_counter() - t)
         n = mesh.n_volume_cells
         del mesh
+    return {"cells": n, "t_mesh": t_mesh}
+
+
+def _child(cells: float) -> dict:
+    """The whole build, as the command line runs it, in a process of its own: the peak is the
+    build's (baseline: the resident size once ``chanmesh.build`` is imported)."""
+    sys.path.insert(0, str(HERE))
+    from hex_speed import SPIRAL, scale_for  # noqa: E402
+
+    from chanmesh.build import build
+    from chanmesh.design import loads_design
+    from chanmesh.progress import StageClock
+
+    base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0
+    design = loads_design(SPIRAL)
+    scale = scale_for(cells * 1e6)
     clock = StageClock(quiet=True)
     with tempfile.TemporaryDirectory(dir=os.environ.get("BENCH_TMP")) as tmp:
         t = time.perf_counter()
+        c = time.process_time()
         build(design, Path(tmp) / "out", scale=scale, clock=clock)
         t_build = time.perf_counter() - t
+        cpu = time.process_time() - c
     if hasattr(clock, "durations"):
         stages = clock.durations()
     else:  # older trees kept only each stage's start time
@@ -70,16 +84,22 @@ def _child(cells: float, repeats: int) -> dict:
         ends = [clock.marks[k] for k in names[1:]] + [t_build]
         stages = {k: e - clock.marks[k] for k, e in zip(names, ends)}
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0
-    return {"cells": n, "t_mesh": t_mesh, "t_build": t_build, "stages": stages, "peak": peak, "base": base}
+    return {"t_build": t_build, "cpu": cpu, "stages": stages, "peak": peak, "base": base}
 
 
-def measure(root: Path, cells: float, repeats: int) -> dict:
+def _run_child(root: Path, args: list[str]) -> dict:
     env = {**os.environ, "PYTHONPATH": str(root)}
-    cmd = [sys.executable, __file__, "--child", str(cells), "--mesh-repeats", str(repeats)]
-    done = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=str(root))
+    done = subprocess.run([sys.executable, __file__, *args], capture_output=True, text=True, env=env, cwd=str(root))
     if done.returncode:
         raise SystemExit(f"child failed for {root}:\n{done.stderr}")
     return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def measure(root: Path, cells: float, repeats: int) -> dict:
+    """Mesh generation time and the build, each in a fresh process, same tree."""
+    out = _run_child(root, ["--child-mesh", str(cells), "--mesh-repeats", str(repeats)])
+    out.update(_run_child(root, ["--child", str(cells)]))
+    return out
 
 
 def main() -> None:
@@ -88,17 +108,21 @@ def main() -> None:
     ap.add_argument("--root", action="append", type=Path, help="source tree whose chanmesh to measure (repeatable)")
     ap.add_argument("--mesh-repeats", type=int, default=3, help="mesh generation timed this many times, best taken (default 3)")
     ap.add_argument("--child", type=float, help=argparse.SUPPRESS)
+    ap.add_argument("--child-mesh", type=float, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.child is not None:
-        print(json.dumps(_child(args.child, args.mesh_repeats)))
+        print(json.dumps(_child(args.child)))
+        return
+    if args.child_mesh is not None:
+        print(json.dumps(_child_mesh(args.child_mesh, args.mesh_repeats)))
         return
     roots = args.root or [HERE.parent]
-    print(f"{'tree':<28} {'hexahedra':>10} {'mesh s':>7} {'build s':>8} {'build/mesh':>10} {'peak MB':>8} {'B/cell':>7} {'B/cell>base':>11}")
+    print(f"{'tree':<28} {'hexahedra':>10} {'mesh s':>7} {'build s':>8} {'CPU s':>6} {'build/mesh':>10} {'peak MB':>8} {'B/cell':>7} {'B/cell>base':>11}")
     results = []
     for root in roots:
         r = measure(root.resolve(), args.cells, args.mesh_repeats)
         results.append((root, r))
-        print(f"{str(root)[-28:]:<28} {r['cells']:>10,} {r['t_mesh']:>7.2f} {r['t_build']:>8.2f} {r['t_build'] / r['t_mesh']:>10.1f} "
+        print(f"{str(root)[-28:]:<28} {r['cells']:>10,} {r['t_mesh']:>7.2f} {r['t_build']:>8.2f} {r['cpu']:>6.2f} {r['t_build'] / r['t_mesh']:>10.1f} "
               f"{r['peak'] / 2**20:>8,.0f} {r['peak'] / r['cells']:>7.0f} {(r['peak'] - r['base']) / r['cells']:>11.0f}")
     for root, r in results:
         shown = ", ".join(f"{k} {v:.2f}" for k, v in r["stages"].items())
