@@ -57,19 +57,20 @@ def close_pairs(points: np.ndarray, radius: float) -> np.ndarray:
     rows = int(cell[:, 1].max()) + 3  # one spare row each side: neighbour keys never wrap
     key = cell[:, 0] * rows + cell[:, 1] + 1
     order = np.argsort(key, kind="stable")
-    sorted_key = key[order]
+    sorted_key = key[order]  # work in this order: sorted look-ups run through memory in order
+    cells, first, size = np.unique(sorted_key, return_index=True, return_counts=True)
     found = []
     for dx, dy in _HALF_STENCIL:
-        target = key + dx * rows + dy
-        start = np.searchsorted(sorted_key, target, side="left")
-        stop = np.searchsorted(sorted_key, target, side="right")
-        count = stop - start
+        target = sorted_key + (dx * rows + dy)
+        at = np.minimum(np.searchsorted(cells, target), len(cells) - 1)
+        count = np.where(cells[at] == target, size[at], 0)
         i = np.repeat(np.arange(n), count)
         offset = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
-        j = order[np.repeat(start, count) + offset]
+        j = np.repeat(first[at], count) + offset
         if dx == 0 and dy == 0:
             keep = i < j
             i, j = i[keep], j[keep]
+        i, j = order[i], order[j]
         found.append(np.stack([np.minimum(i, j), np.maximum(i, j)], axis=1))
     pairs = np.concatenate(found)
     d2 = np.sum((pts[pairs[:, 0]] - pts[pairs[:, 1]]) ** 2, axis=1)
