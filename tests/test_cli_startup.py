@@ -44,7 +44,8 @@ def test_new_and_help_import_no_heavy_library():
     assert out.strip() == "[]"
 
 
-NUMBERS_NEVER = ("scipy.spatial", "scipy.optimize", "iapws", "gmsh", "pyvista", "vtk", "matplotlib", "dask", "meshio", "h5py")
+NUMBERS_NEVER = ("scipy.spatial", "scipy.optimize", "iapws", "gmsh", "pyvista", "vtk", "matplotlib", "dask",
+                 "meshio", "h5py")
 """Libraries `chanmesh numbers` does without: the wall-clearance check bins points in numpy
 (geometry/clearance.close_pairs), water is IAPWS in numpy (numbers/water.py) and sizing imports
 brentq only for a first_cell. Only the section flow (scikit-fem) brings scipy.sparse."""
@@ -55,7 +56,8 @@ def test_numbers_imports_only_what_it_needs(section_flow):
     code = (
         "import sys, io, contextlib\nfrom chanmesh.cli import main\n"
         "with contextlib.redirect_stdout(io.StringIO()):\n"
-        f"    assert main(['numbers', {str(ROOT / 'templates' / 'spiral-sorter.toml')!r}, '--flow', '1.2mL/min', {section_flow!r}]) == 0\n"
+        f"    assert main(['numbers', {str(ROOT / 'templates' / 'spiral-sorter.toml')!r}, '--flow', '1.2mL/min',"
+        f" {section_flow!r}]) == 0\n"
         "print(sorted(m for m in sys.modules if m.split('.')[0] in ('scipy', 'skfem') or m in "
         f"{NUMBERS_NEVER!r}))\n"
     )

@@ -7,7 +7,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from chanmesh.numbers.water import liquid_water, pressure, residual, saturation, viscosity
+from chanmesh.numbers.water import BOILING_CHECK_FROM, liquid_water, pressure, residual, saturation, viscosity
 
 
 def test_residual_helmholtz_matches_the_release_check_values():
@@ -41,6 +41,15 @@ def test_saturation_matches_the_release_two_phase_table(temperature, guess, p_mp
     assert got_p / 1e6 == pytest.approx(p_mpa, rel=1e-8)
     assert got_l == pytest.approx(rho_l, rel=1e-8)
     assert got_v == pytest.approx(rho_v, rel=1e-8)
+
+
+def test_vapour_pressure_crosses_one_atmosphere_at_the_normal_boiling_point():
+    # the normal boiling point of IAPWS-95 is 373.1243 K (iapws.IAPWS95.Tb, the reference
+    # implementation); below BOILING_CHECK_FROM the liquid is stable at 1 atm without a check
+    from iapws import IAPWS95
+
+    assert saturation(IAPWS95.Tb)[2] == pytest.approx(101_325.0, abs=1.0)  # dp_s/dT = 3.6 kPa/K
+    assert saturation(BOILING_CHECK_FROM)[2] < 0.97 * 101_325.0
 
 
 @pytest.mark.parametrize("temperature, rho, mu_upas", [
