@@ -70,8 +70,9 @@ recorded as {"skipped": message} instead of failing the build."""
 BACKGROUND_HOOKS = frozenset({"resolution"})
 """Hooks that read only the design and the finished mesh, started in a thread as soon as the
 mesh exists so that their solves (scipy's sparse LU runs without the GIL) overlap the tagging
-check and the quality figures on a second core; their stage then times only the wait. The
-report's plan and 3D pictures are drawn in the same thread after them."""
+check and the quality figures on a second core; their stage then times only the wait. Every
+picture of the report (plan, 3D, quality histograms, section pictures) is drawn in the same
+thread after the quality figures, so the report stage only writes the page."""
 
 
 @dataclass(frozen=True)
@@ -137,7 +138,7 @@ def build(
         forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
         # after the quality figures, whose batches are the build's memory peak: the pictures
         # overlap the writers instead (matplotlib: only this thread draws until the report)
-        pictures = pool.submit(report_pictures, design, mesh)
+        pictures = pool.submit(report_pictures, design, mesh, extra)  # every picture, histograms included
         pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("measuring")
         groups = group_records(design, mesh)
