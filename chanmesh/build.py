@@ -25,7 +25,7 @@ from chanmesh.meshing.registry import mesher_for
 from chanmesh.meshing.verify import check_boundary_tagging
 from chanmesh.progress import StageClock
 from chanmesh.report import write_report
-from chanmesh.report.html import report_pictures
+from chanmesh.report.html import ReportPictures, report_figures, report_views
 from chanmesh.safeio import StagedOutput
 from chanmesh.writers import DEFAULT_FORMATS, WriteOptions, format_named
 
@@ -71,8 +71,10 @@ BACKGROUND_HOOKS = frozenset({"resolution"})
 """Hooks that read only the design and the finished mesh, started in a thread as soon as the
 mesh exists so that their solves (scipy's sparse LU runs without the GIL) overlap the tagging
 check and the quality figures on a second core; their stage then times only the wait. Every
-picture of the report (plan, 3D, quality histograms, section pictures) is drawn in the same
-thread after the quality figures, so the report stage only writes the page."""
+picture of the report is drawn in the same thread (matplotlib: only there until the report):
+the plan and 3D views right after these hooks (a surface's worth of memory, not the mesh's),
+the quality histograms and the section pictures once the quality figures exist, so the report
+stage only writes the page."""
 
 
 @dataclass(frozen=True)
@@ -124,6 +126,7 @@ def build(
         mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
         pool = ThreadPoolExecutor(max_workers=1, thread_name_prefix="chanmesh-hook")
         ahead = {name: pool.submit(hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
+        views = pool.submit(report_views, design, mesh)  # the report's plan and 3D views (matplotlib: this thread only)
         clock("checking")
         counts = check_boundary_tagging(mesh)
         mesh.info["estimated_cells"] = estimate
@@ -136,9 +139,7 @@ def build(
             except DesignError as exc:
                 extra[name] = {"skipped": str(exc)}
         forget_face_tables(mesh)  # shared by the check and the quality figures; not needed now
-        # after the quality figures, whose batches are the build's memory peak: the pictures
-        # overlap the writers instead (matplotlib: only this thread draws until the report)
-        pictures = pool.submit(report_pictures, design, mesh, extra)  # every picture, histograms included
+        figures = pool.submit(report_figures, design, mesh, extra)  # histograms and section pictures
         pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
         clock("measuring")
         groups = group_records(design, mesh)
@@ -148,7 +149,8 @@ def build(
             files += fmt.write_for(design, mesh, staged.stage, design.name, options)
         clock("report")
         draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
-        files.append(write_report(staged.stage, design, mesh, draft, files, pictures.result()))
+        pictures = ReportPictures(*views.result(), *figures.result())
+        files.append(write_report(staged.stage, design, mesh, draft, files, pictures))
         clock("manifest")
         manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")

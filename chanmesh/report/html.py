@@ -321,16 +321,28 @@ class ReportPictures:
     section: list[tuple[str, bytes]] | None = None
 
 
+def report_views(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
+    """The plan view and the 3D view (PNG): they need only the design and the mesh, so a build
+    draws them in its background thread as soon as the mesh exists."""
+    return plan_picture(design, 1100, 720).png, mesh_picture(mesh, design, 1100, 720)
+
+
+def report_figures(design: Design, mesh: ChannelMesh, sections: dict[str, Any]
+                   ) -> tuple[list[tuple[str, bytes]], list[tuple[str, bytes]]]:
+    """The quality histograms and the resolution figure's section pictures, from the
+    manifest's ``quality`` and ``resolution`` sections (``sections``: the build's manifest
+    hooks, or the manifest)."""
+    return quality_charts(sections.get("quality")), section_pictures(design, mesh, sections.get("resolution"))
+
+
 def report_pictures(design: Design, mesh: ChannelMesh, sections: dict[str, Any] | None = None) -> ReportPictures:
-    """Every picture of the report. They need only the design, the mesh and the manifest's
-    ``quality`` and ``resolution`` sections (``sections``: the build's manifest hooks; without
-    it only the plan and 3D views), so a build draws them in its background thread while it
-    measures and writes, and its report stage only writes the page (``build.BACKGROUND_HOOKS``)."""
-    plan, view = plan_picture(design, 1100, 720).png, mesh_picture(mesh, design, 1100, 720)
+    """Every picture of the report: the plan and 3D views, and with ``sections`` (the
+    manifest's, or the build's hooks) the histograms and section pictures too. A build draws
+    them in its background thread (``report_views`` early, ``report_figures`` after the quality
+    figures), so that its report stage only writes the page."""
     if sections is None:
-        return ReportPictures(plan, view)
-    return ReportPictures(plan, view, quality_charts(sections.get("quality")),
-                          section_pictures(design, mesh, sections.get("resolution")))
+        return ReportPictures(*report_views(design, mesh))
+    return ReportPictures(*report_views(design, mesh), *report_figures(design, mesh, sections))
 
 
 def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path],

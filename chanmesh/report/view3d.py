@@ -23,7 +23,6 @@ The close-ups are always drawn with matplotlib.
 
 from __future__ import annotations
 
-import io
 import os
 
 import matplotlib
@@ -41,12 +40,13 @@ from chanmesh.meshing.model import ChannelMesh  # noqa: E402
 from chanmesh.report.drawing_surface import (  # noqa: E402
     DrawingSurface, SurfaceFacets, drawing_surface, facet_normals, surface_facets, surface_groups)
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
+from chanmesh.report.png import figure_png  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
 
 ENGINES = ("auto", "vtk", "mpl")
 WALL_EDGE = "#7D8A94"
 
-DRAW_LIMIT = 30_000
+DRAW_LIMIT = 20_000
 """Facets drawn in the main view; a larger surface is drawn merged (``drawing_surface``)."""
 CLOSEUP_LIMIT = 6_000
 """Facets drawn in one port close-up; more are merged the same way."""
@@ -299,11 +299,10 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
         handles = [Patch(facecolor=colours[n], edgecolor=INK, linewidth=0.6, label=n) for n in surface.polygons]
         fig.legend(handles=handles, loc="upper right", frameon=True, fontsize=11, title="groups", title_fontsize=11,
                    labelcolor=INK, edgecolor="#9AA5AE", borderpad=0.8)
-        buf = io.BytesIO()
-        fig.savefig(buf, format="png", dpi=100, facecolor=PAPER)
+        png = figure_png(fig)
     finally:
         plt.close(fig)
-    return buf.getvalue()
+    return png
 
 
 def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str],  # type: ignore[no-untyped-def]
