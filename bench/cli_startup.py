@@ -3,7 +3,7 @@
 Run:  PYTHONPATH=$PWD python bench/cli_startup.py [--root OTHER_TREE ...] [--repeats 5]
 
 Times ``python -m chanmesh --help``, ``new spiral`` and ``numbers`` on the spiral template at a
-flow, best of ``--repeats`` (the machine is shared: the minimum is the cost), for each source
+flow (with its default section-flow solve, and without it: ``--no-section-flow``), best of ``--repeats`` (the machine is shared: the minimum is the cost), for each source
 tree given (default: this one), plus a bare ``python -c pass`` as the interpreter's own floor.
 """
 
@@ -21,6 +21,8 @@ COMMANDS = {
     "--help": ["--help"],
     "new spiral": ["new", "spiral"],
     "numbers": ["numbers", str(HERE.parent / "templates" / "spiral-sorter.toml"), "--flow", "1.2mL/min"],
+    "numbers -no-sf": ["numbers", str(HERE.parent / "templates" / "spiral-sorter.toml"), "--flow", "1.2mL/min",
+                       "--no-section-flow"],
 }
 
 
@@ -42,10 +44,11 @@ def main() -> None:
     roots = [r.resolve() for r in (args.root or [HERE.parent])]
     floor = best([sys.executable, "-c", "pass"], HERE.parent, args.repeats)
     print(f"python -c pass: {floor:.3f} s")
-    print(f"{'tree':<28} " + " ".join(f"{name:>12}" for name in COMMANDS))
+    print(f"{'tree':<28} " + " ".join(f"{name:>16}" for name in COMMANDS))
     for root in roots:
         row = [best([sys.executable, "-m", "chanmesh", *cmd], root, args.repeats) for cmd in COMMANDS.values()]
-        print(f"{str(root)[-28:]:<28} " + " ".join(f"{t:>10.3f} s" for t in row))
+        # (cwd = root: ``python -m`` puts the working folder first on sys.path, ahead of PYTHONPATH)
+        print(f"{str(root)[-28:]:<28} " + " ".join(f"{t:>14.3f} s" for t in row))
     print("target (issue 14): each under 0.5 s")
 
 

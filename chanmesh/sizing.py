@@ -12,7 +12,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import brentq
 
 from chanmesh.design.model import Design
 from chanmesh.errors import DesignError, Shown
@@ -60,6 +59,8 @@ def ratio_for_first_cell(length: float, n: int, first: float) -> float:
             f"is too small for {n} cells over {length * 1e6:.4g} um: it needs a growth ratio above "
             f"{MAX_RATIO:g} (smallest reachable wall-adjacent cell {smallest * 1e6:.3g} um); give a larger first_cell or more cells",
         )
+    from scipy.optimize import brentq  # here, not at the top: `chanmesh numbers` starts without scipy.optimize
+
     return float(brentq(lambda g: first_cell(length, n, g) - first, 1.0 + 1e-12, MAX_RATIO, xtol=1e-14, rtol=1e-14))
 
 

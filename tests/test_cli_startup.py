@@ -6,6 +6,7 @@ Exit status 128 + signal number for a process ended by a signal is the POSIX she
 
 from __future__ import annotations
 
+import ast
 import os
 import signal
 import subprocess
@@ -41,6 +42,30 @@ def test_new_and_help_import_no_heavy_library():
     )
     out = subprocess.run([sys.executable, "-c", code], env=_env(), capture_output=True, text=True, check=True).stdout
     assert out.strip() == "[]"
+
+
+NUMBERS_NEVER = ("scipy.spatial", "scipy.optimize", "iapws", "gmsh", "pyvista", "vtk", "matplotlib", "dask",
+                 "meshio", "h5py")
+"""Libraries `chanmesh numbers` does without: the wall-clearance check bins points in numpy
+(geometry/clearance.close_pairs), water is IAPWS in numpy (numbers/water.py) and sizing imports
+brentq only for a first_cell. Only the section flow (scikit-fem) brings scipy.sparse."""
+
+
+@pytest.mark.parametrize("section_flow", ["--section-flow", "--no-section-flow"])
+def test_numbers_imports_only_what_it_needs(section_flow):
+    code = (
+        "import sys, io, contextlib\nfrom chanmesh.cli import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        f"    assert main(['numbers', {str(ROOT / 'templates' / 'spiral-sorter.toml')!r}, '--flow', '1.2mL/min',"
+        f" {section_flow!r}]) == 0\n"
+        "print(sorted(m for m in sys.modules if m.split('.')[0] in ('scipy', 'skfem') or m in "
+        f"{NUMBERS_NEVER!r}))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], env=_env(), capture_output=True, text=True, check=True).stdout
+    loaded = ast.literal_eval(out.strip())  # the list the child printed
+    assert not [m for m in loaded if m in NUMBERS_NEVER]
+    if section_flow == "--no-section-flow":
+        assert loaded == []  # the design numbers alone: numpy and chanmesh, no scipy at all
 
 
 def _started(proc: subprocess.Popen, seen: list[str]) -> None:

@@ -71,3 +71,27 @@ def test_plan_outline_area_is_the_plan_area():
     for kind in ("arc", "chambers", "serpentine"):
         d = small_design(kind)
         assert plan_outline(d, spacing=1e-6).area == pytest.approx(reference_of(d).plan_area, rel=1e-4)
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_close_pairs_match_a_kd_tree(seed):
+    """The wall test's neighbour pairs (grid binning, numpy only) against scipy's
+    cKDTree.query_pairs (a general reference library: Maneewongvatana & Mount 1999 sliding
+    midpoint k-d tree), on scattered points, on a lattice whose spacing equals the radius (pairs
+    exactly at the radius) and on two nearly touching walls of a channel-like strip."""
+    from scipy.spatial import cKDTree
+
+    from chanmesh.geometry.clearance import close_pairs
+
+    rng = np.random.default_rng(seed)
+    scattered = rng.uniform(-3e-3, 5e-3, size=(3000, 2))
+    lattice = np.stack(np.meshgrid(np.arange(20) * 0.25, np.arange(15) * 0.25), -1).reshape(-1, 2) - 1.0
+    x = np.linspace(0.0, 1e-2, 800)
+    strip = np.concatenate([np.column_stack([x, 0 * x]), np.column_stack([x, 0 * x + 1e-5 * (1 + seed)])])
+    for pts, radius in ((scattered, 2e-4), (lattice, 0.25), (strip, 2.1e-5)):
+        expected = cKDTree(pts).query_pairs(radius, output_type="ndarray")
+        expected = expected[np.lexsort((expected[:, 1], expected[:, 0]))]
+        got = close_pairs(pts, radius)
+        assert len(expected) > 0
+        np.testing.assert_array_equal(got, expected)
+    assert close_pairs(scattered[:1], 1.0).shape == (0, 2)

@@ -9,6 +9,9 @@ of each other until they have moved on), while neighbouring runs of a serpentine
 runs into the channel or two crossing pieces always do. Sections of different runs must stay at
 least ``gap`` apart (0 where they cross). Sampled every ``width / 8``; the distances are exact
 to well under 1 % of the width.
+
+Pure numpy (no scipy): the design checks run this for every command that reads a design, and
+``chanmesh numbers`` must start in well under a second (issue 14).
 """
 
 from __future__ import annotations
@@ -16,7 +19,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.spatial import cKDTree
 
 from chanmesh.geometry.centerline import Centerline
 
@@ -36,6 +38,44 @@ class WallContact:
 MAX_SAMPLES = 400_000
 """Most centreline samples the wall test takes (the design checks keep paths within 50,000
 widths, which is this at width / 8)."""
+
+
+_HALF_STENCIL = np.array([(0, 0), (1, -1), (1, 0), (1, 1), (0, 1)])
+"""Grid cells paired with a cell (itself and four of its eight neighbours: each pair of cells once)."""
+
+
+def close_pairs(points: np.ndarray, radius: float) -> np.ndarray:
+    """Every pair of ``points`` ((n, 2) float, m) at most ``radius`` (m) apart: (k, 2) int,
+    i < j in each row, rows sorted. Points are binned on a square grid of side ``radius``, so
+    a pair lies in one cell or two neighbouring ones; the work is linear in the points when
+    each cell holds a few (the wall samples of a channel do)."""
+    pts = np.asarray(points, dtype=float)
+    n = len(pts)
+    if n < 2 or not radius > 0:
+        return np.zeros((0, 2), dtype=np.intp)
+    cell = np.floor((pts - pts.min(axis=0)) / radius).astype(np.int64)
+    rows = int(cell[:, 1].max()) + 3  # one spare row each side: neighbour keys never wrap
+    key = cell[:, 0] * rows + cell[:, 1] + 1
+    order = np.argsort(key, kind="stable")
+    sorted_key = key[order]  # work in this order: sorted look-ups run through memory in order
+    cells, first, size = np.unique(sorted_key, return_index=True, return_counts=True)
+    found = []
+    for dx, dy in _HALF_STENCIL:
+        target = sorted_key + (dx * rows + dy)
+        at = np.minimum(np.searchsorted(cells, target), len(cells) - 1)
+        count = np.where(cells[at] == target, size[at], 0)
+        i = np.repeat(np.arange(n), count)
+        offset = np.arange(int(count.sum())) - np.repeat(np.cumsum(count) - count, count)
+        j = np.repeat(first[at], count) + offset
+        if dx == 0 and dy == 0:
+            keep = i < j
+            i, j = i[keep], j[keep]
+        i, j = order[i], order[j]
+        found.append(np.stack([np.minimum(i, j), np.maximum(i, j)], axis=1))
+    pairs = np.concatenate(found)
+    d2 = np.sum((pts[pairs[:, 0]] - pts[pairs[:, 1]]) ** 2, axis=1)
+    pairs = pairs[d2 <= radius * radius]
+    return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
 
 
 def _cross(u: np.ndarray, v: np.ndarray) -> np.ndarray:
@@ -91,7 +131,7 @@ def wall_contact(line: Centerline, width: float, gap: float) -> WallContact | No
     walls = np.stack([p - 0.5 * width * normal, p + 0.5 * width * normal])  # (2, n, 2)
     # wall points within gap of another wall edge lie within gap + one edge of its points
     edge = float(np.max(np.linalg.norm(np.diff(walls, axis=1), axis=2)))
-    pairs = cKDTree(walls.reshape(-1, 2)).query_pairs(gap + edge, output_type="ndarray")
+    pairs = close_pairs(walls.reshape(-1, 2), gap + edge)
     if len(pairs) == 0:
         return None
     a, b = pairs[:, 0], pairs[:, 1]

@@ -1,9 +1,10 @@
 """Fluid properties for the design numbers: liquid water from temperature, or any fluid given
 by explicit density and viscosity. SI inside (kg/m^3, Pa s, K).
 
-Water uses the reference implementation of the IAPWS formulations in the ``iapws`` package:
-IAPWS-95 (Wagner & Pruss 2002) for density at atmospheric pressure, IAPWS 2008 (Huber et al.
-2009) for viscosity. One evaluation takes a few milliseconds, so it is called at run time.
+Water follows the IAPWS formulations, evaluated by ``chanmesh.numbers.water`` in numpy alone
+(tested against the ``iapws`` package to about 1e-12): IAPWS-95 (Wagner & Pruss 2002) for
+density at atmospheric pressure, IAPWS 2008 (Huber et al. 2009) for viscosity. One evaluation
+takes about a millisecond, so it is called at run time.
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ from dataclasses import dataclass
 from chanmesh.design.model import FlowSpec
 from chanmesh.errors import DesignError
 
-ATMOSPHERE = 0.101325  # MPa, the pressure the water properties are evaluated at
+ATMOSPHERE = 101_325.0  # Pa, the pressure the water properties are evaluated at
 WATER_T_MIN = 273.15  # K, 0 C
 WATER_T_MAX = 373.15  # K, 100 C
 
@@ -68,12 +69,9 @@ def water(temperature: float, key: str = "flow.temperature") -> tuple[float, flo
             "water properties cover 0 to 100 C at atmospheric pressure; for other fluids or "
             "states give flow.density (kg/m^3) and flow.viscosity (Pa s)",
         )
-    from iapws import IAPWS95
+    from chanmesh.numbers.water import liquid_water
 
-    state = IAPWS95(T=temperature, P=ATMOSPHERE)
-    if getattr(state, "phase", "Liquid") != "Liquid":
-        state = IAPWS95(T=temperature, x=0.0)
-    return float(state.rho), float(state.mu)
+    return liquid_water(temperature, ATMOSPHERE)
 
 
 def fluid_of(flow: FlowSpec) -> Fluid:
@@ -102,4 +100,4 @@ def fluid_of(flow: FlowSpec) -> Fluid:
         )
     rho, mu = water(flow.temperature)
     return Fluid(flow.fluid, rho, mu, flow.temperature,
-                 "water at 1 atm: IAPWS-95 density, IAPWS 2008 viscosity (iapws package)", bio)
+                 "water at 1 atm: IAPWS-95 density, IAPWS 2008 viscosity", bio)

@@ -248,7 +248,7 @@ def _sources(design: Design) -> list[str]:
     return [
         "Shah R.K., London A.L. (1978) Laminar Flow Forced Convection in Ducts: f Re of rectangular ducts",
         "Wagner W., Pruss A. (2002) IAPWS-95 formulation; Huber M.L. et al. (2009) IAPWS 2008 viscosity "
-        "(evaluated with the iapws package)",
+        "(IAPWS R6-95 and R12-08, evaluated by chanmesh.numbers.water and tested against the iapws package)",
         "Ookawara S. et al. (2004): U_Dean = 1.8e-4 De^1.63 m/s, empirical correlation",
         "Di Carlo D. (2009) Inertial microfluidics, Lab Chip 9, 3038: a / D_h >= 0.07, F_L scaling",
         "Chen R.Y. (1973) entrance length correlation (from memory)",
