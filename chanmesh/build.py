@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import json
 import sys
-from concurrent.futures import ThreadPoolExecutor
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
@@ -76,20 +76,30 @@ build (bench/openfoam_write.py)."""
 BACKGROUND_HOOKS = ("resolution",)
 """Hooks run in a second thread while the main thread checks the mesh, computes the quality
 figures, measures the groups and writes the formats: the resolution figure (its sparse LU runs
-without the GIL) starts as soon as the mesh exists; its stage times only the wait. Before it
-the thread imports the report's modules (matplotlib: about 0.4 s) while the main thread
-meshes, and after it draws the report's plan and 3D pictures. This balances the two threads
-on two cores: at 1 M hexahedra each carries about 3 s of work."""
+without the GIL) starts as soon as the mesh exists; its stage times only the wait. Every
+picture of the report is drawn in the same thread (matplotlib: only there until the report):
+before the hooks it imports the report's modules (about 0.4 s) while the main thread meshes;
+after them it draws the plan and 3D views (``report_views``), then the quality histograms and
+the section pictures once the quality figures exist (``report_figures``), so the report stage
+only writes the page."""
 
 
 def _report_modules() -> None:
     import chanmesh.report.html  # noqa: F401  (matplotlib and the report's pictures)
 
 
-def _pictures(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
-    from chanmesh.report.html import report_pictures
+def _views(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
+    from chanmesh.report.html import report_views
 
-    return report_pictures(design, mesh)
+    return report_views(design, mesh)
+
+
+def _figures(design: Design, mesh: ChannelMesh, extra: dict[str, Any], ahead: dict[str, Future]) -> Any:
+    """The report's histograms and section pictures, once the quality figures (``extra``) and
+    the background hooks (``ahead``, queued before this in the same thread: done) exist."""
+    from chanmesh.report.html import report_figures
+
+    return report_figures(design, mesh, {**extra, **{name: f.result() for name, f in ahead.items()}})
 
 
 def _guarded(hook: ManifestHook, design: Design, mesh: ChannelMesh) -> dict[str, Any]:
@@ -161,18 +171,19 @@ def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale
             pool.submit(_report_modules)
             mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
             ahead = {name: pool.submit(_guarded, hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
-            pictures = pool.submit(_pictures, design, mesh)
+            views = pool.submit(_views, design, mesh)  # the report's plan and 3D views (matplotlib: this thread only)
+            clock("checking")
+            counts = check_boundary_tagging(mesh)  # makes the face table the quality figures and writers share
+            mesh.info["estimated_cells"] = estimate
+            mesh.info.update(counts)
+            extra = {}
+            for name, hook in MANIFEST_HOOKS:
+                if name not in ahead:
+                    clock(name)
+                    extra[name] = _guarded(hook, design, mesh)
+            figures = pool.submit(_figures, design, mesh, dict(extra), ahead)  # histograms and section pictures
         finally:
             pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
-        clock("checking")
-        counts = check_boundary_tagging(mesh)  # makes the face table the quality figures and writers share
-        mesh.info["estimated_cells"] = estimate
-        mesh.info.update(counts)
-        extra = {}
-        for name, hook in MANIFEST_HOOKS:
-            if name not in ahead:
-                clock(name)
-                extra[name] = _guarded(hook, design, mesh)
         if not any(fmt.reads_face_table for fmt in chosen):
             forget_face_tables(mesh)  # made by the check, shared with the quality figures: done
         clock("measuring")
@@ -188,9 +199,11 @@ def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale
                 extra[name] = ahead[name].result()
         clock("report")
         from chanmesh.report import write_report
+        from chanmesh.report.html import ReportPictures
 
         draft = make_manifest(design, mesh, [], request, clock.durations(), extra, groups)  # no file hashes yet
-        files.append(write_report(staged.stage, design, mesh, draft, files, pictures.result()))
+        pictures = ReportPictures(*views.result(), *figures.result())
+        files.append(write_report(staged.stage, design, mesh, draft, files, pictures))
         clock("manifest")
         manifest = make_manifest(design, mesh, files, request, clock.durations(), extra, groups, root=staged.stage)
         (staged.stage / MANIFEST).write_text(json.dumps(json.loads(canonical_json(manifest)), indent=2) + "\n")

@@ -106,6 +106,18 @@ def test_quality_histograms_are_drawn_from_the_build_manifest(built):
     assert "scaled Jacobian min" in text
 
 
+def test_pictures_drawn_ahead_give_the_page_drawn_with_them(built):
+    """The build draws every picture in its background thread from its manifest sections
+    (report_pictures with sections); the page must be the one drawn in one go, byte for byte
+    (matplotlib's Agg output is deterministic for the same input)."""
+    from chanmesh.report.html import report_pictures
+
+    design = loads_design(DESIGN)
+    ahead = report_pictures(design, built.mesh, built.manifest)
+    assert len(ahead.charts) == 3 and len(ahead.section) == 2
+    assert report_html(design, built.mesh, built.manifest, [], ahead) == report_html(design, built.mesh, built.manifest, [])
+
+
 def test_a_manifest_without_quality_says_so(built):
     manifest = {k: v for k, v in built.manifest.items() if k != "quality"}
     text = report_html(loads_design(DESIGN), built.mesh, manifest, [])

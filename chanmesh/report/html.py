@@ -12,6 +12,7 @@ from __future__ import annotations
 import base64
 import html
 import math
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -158,12 +159,11 @@ def group_rows(manifest: dict[str, Any]) -> list[list[Any]]:
     return rows
 
 
-def _quality_section(manifest: dict[str, Any]) -> str:
-    """Summary figures as a table and one histogram per entry of ``quality["histograms"]``;
-    lengths (metres in the manifest) are shown in micrometres."""
-    quality = manifest.get("quality")
-    if not isinstance(quality, dict) or "skipped" in quality or not quality:
-        return '<p class="note">No quality figures in this build\'s manifest.</p>'
+def quality_charts(quality: Any) -> list[tuple[str, bytes]]:
+    """(alt text, PNG) of one histogram per entry of ``quality["histograms"]`` (the manifest's
+    quality section); lengths (metres in the manifest) are shown in micrometres."""
+    if not isinstance(quality, dict) or "skipped" in quality:
+        return []
     charts = []
     for name, entry in (quality.get("histograms") or {}).items():
         hist = histogram_of(entry)
@@ -172,14 +172,24 @@ def _quality_section(manifest: dict[str, Any]) -> str:
             label = metric_label(name)
             if name.endswith("_m"):
                 label, edges = f"{label} (µm)", edges * 1e6
-            charts.append(_img(histogram_png(label, edges, counts), f"histogram of {label}"))
+            charts.append((f"histogram of {label}", histogram_png(label, edges, counts)))
+    return charts
+
+
+def _quality_section(manifest: dict[str, Any], charts: list[tuple[str, bytes]] | None = None) -> str:
+    """Summary figures as a table and the histograms (``quality_charts``, drawn here unless
+    given)."""
+    quality = manifest.get("quality")
+    if not isinstance(quality, dict) or "skipped" in quality or not quality:
+        return '<p class="note">No quality figures in this build\'s manifest.</p>'
+    charts = quality_charts(quality) if charts is None else charts
     summary = []
     for name, v in quality.items():
         if isinstance(v, (int, float)) and not isinstance(v, bool):
             length = name.startswith("wall_cell")
             unit = "µm" if length else ("deg" if name.startswith("non_orthogonality") else "")
             summary.append([metric_label(name), _num(v * 1e6 if length else v, 4), unit])
-    out = f'<div class="charts">{"".join(charts)}</div>' if charts else ""
+    out = f'<div class="charts">{"".join(_img(png, alt) for alt, png in charts)}</div>' if charts else ""
     if summary:
         out += _table(["figure", "value", "unit"], summary)
     return out or '<p class="note">The quality section holds no histogram or summary numbers.</p>'
@@ -240,17 +250,33 @@ def _numbers_section(numbers: dict[str, Any] | str) -> str:
     return out
 
 
-def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, Any]) -> str:
-    """The section mesh picture, the figure's table, and the two section flows side by side."""
+def section_pictures(design: Design, mesh: ChannelMesh, record: Any) -> list[tuple[str, bytes]]:
+    """(alt text, PNG) of the resolution figure's pictures: the section mesh, and the two
+    section flows side by side when the figure has a secondary speed; none without a figure.
+    ``record``: the manifest's ``resolution`` section (its solves are cached per mesh)."""
+    if not isinstance(record, dict) or "errors" not in record:
+        return []
+    from chanmesh.report.section_view import section_mesh_png, solutions_png
+    from chanmesh.resolution import figure_for_mesh
+
+    fig = figure_for_mesh(design, mesh)
+    out = [("the section mesh, walls labelled", section_mesh_png(design, fig.grid, record["radius_m"]))]
+    if record["errors"].get("secondary_max") is not None:
+        out.append(("converged section flow and the same on this mesh",
+                    solutions_png(design, fig.reference, fig.on_mesh, record["radius_m"], record["errors"])))
+    return out
+
+
+def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, Any],
+                        pictures: list[tuple[str, bytes]] | None = None) -> str:
+    """The section mesh picture, the figure's table, and the two section flows side by side
+    (``section_pictures``, drawn here unless given)."""
     record = manifest.get("resolution")
     if not isinstance(record, dict):
         return '<p class="note">No resolution figure in this build.</p>'
     if "errors" not in record:
         return f'<p class="note">Resolution figure not computed: {html.escape(str(record.get("skipped", "")))}</p>'
-    from chanmesh.report.section_view import section_mesh_png, solutions_png
-    from chanmesh.resolution import figure_for_mesh
-
-    fig = figure_for_mesh(design, mesh)
+    pictures = section_pictures(design, mesh, record) if pictures is None else pictures
     e, lim = record["errors"], record["limits"]
     op = record["operating_point"]
     ref_err = record["reference"]["estimated_error"]
@@ -274,9 +300,7 @@ def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, A
         warn,
         _table(["figure", "error on this mesh", "finite-volume error predicted (calibrated)", "default mesh meets", "met",
                 "reference's own error"], rows),
-        f"<figure>{_img(section_mesh_png(design, fig.grid, record['radius_m']), 'the section mesh, walls labelled')}</figure>",
-        f"<figure>{_img(solutions_png(design, fig.reference, fig.on_mesh, record['radius_m'], e), 'converged section flow and the same on this mesh')}</figure>"
-        if e.get("secondary_max") is not None else "",
+        *(f"<figure>{_img(png, alt)}</figure>" for alt, png in pictures),
     ])
 
 
@@ -285,17 +309,48 @@ def _is_length(key: str) -> bool:
     return key.startswith(("wall_cell", "core_cell"))
 
 
-def report_pictures(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
-    """The plan view and the 3D view of the report (PNG): they need only the design and the
-    mesh, so a build can draw them while it checks and writes (``build.BACKGROUND_HOOKS``)."""
+@dataclass(frozen=True)
+class ReportPictures:
+    """The report's pictures (PNG bytes) drawn ahead of its page: the plan and 3D views, and,
+    when drawn from the manifest's sections, the quality histograms and the resolution
+    figure's section pictures as (alt text, PNG) lists; None: drawn with the page."""
+
+    plan: bytes
+    view: bytes
+    charts: list[tuple[str, bytes]] | None = None
+    section: list[tuple[str, bytes]] | None = None
+
+
+def report_views(design: Design, mesh: ChannelMesh) -> tuple[bytes, bytes]:
+    """The plan view and the 3D view (PNG): they need only the design and the mesh, so a build
+    draws them in its background thread as soon as the mesh exists."""
     return plan_picture(design, 1100, 720).png, mesh_picture(mesh, design, 1100, 720)
 
 
+def report_figures(design: Design, mesh: ChannelMesh, sections: dict[str, Any]
+                   ) -> tuple[list[tuple[str, bytes]], list[tuple[str, bytes]]]:
+    """The quality histograms and the resolution figure's section pictures, from the
+    manifest's ``quality`` and ``resolution`` sections (``sections``: the build's manifest
+    hooks, or the manifest)."""
+    return quality_charts(sections.get("quality")), section_pictures(design, mesh, sections.get("resolution"))
+
+
+def report_pictures(design: Design, mesh: ChannelMesh, sections: dict[str, Any] | None = None) -> ReportPictures:
+    """Every picture of the report: the plan and 3D views, and with ``sections`` (the
+    manifest's, or the build's hooks) the histograms and section pictures too. A build draws
+    them in its background thread (``report_views`` early, ``report_figures`` after the quality
+    figures), so that its report stage only writes the page."""
+    if sections is None:
+        return ReportPictures(*report_views(design, mesh))
+    return ReportPictures(*report_views(design, mesh), *report_figures(design, mesh, sections))
+
+
 def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path],
-                pictures: tuple[bytes, bytes] | None = None) -> str:
+                pictures: ReportPictures | None = None) -> str:
     """The page as text. ``manifest`` is the build's manifest (its ``files`` list is not used);
-    ``pictures``: ``report_pictures(design, mesh)`` when already drawn."""
-    plan, view = pictures or report_pictures(design, mesh)
+    ``pictures``: ``report_pictures(design, mesh, ...)`` when already drawn (from the same
+    manifest sections)."""
+    pictures = pictures or report_pictures(design, mesh)
     cells = [[cell_word(t, n), n] for t, n in manifest["cells"].items()] + [["points", manifest["points"]]]
     info = manifest.get("mesher", {})
     mesher_rows = [
@@ -316,8 +371,8 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
         f'<p class="note">chanmesh {html.escape(str(manifest.get("versions", {}).get("chanmesh", "")))} build report · '
         f'design hash <code>{html.escape(str(manifest.get("design_hash", ""))[:16])}</code></p>',
         "<h2>Pictures</h2>",
-        f"<figure>{_img(plan, 'plan view of the channel to scale')}</figure>",
-        f"<figure>{_img(view, 'the mesh in 3D, groups coloured')}</figure>",
+        f"<figure>{_img(pictures.plan, 'plan view of the channel to scale')}</figure>",
+        f"<figure>{_img(pictures.view, 'the mesh in 3D, groups coloured')}</figure>",
         "<h2>Design</h2>",
         _columns(_table(["key", "value", "unit"], rows[:half]),
                  _table(["key", "value", "unit"], rows[half:])),
@@ -326,9 +381,9 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
         "<h2>Mesh</h2>",
         _columns(_table(["cells", "count"], cells), _table(["mesher", "value", "unit"], mesher_rows) if mesher_rows else ""),
         "<h3>Quality</h3>",
-        _quality_section(manifest),
+        _quality_section(manifest, pictures.charts),
         "<h2>Resolution of the section flow</h2>",
-        _resolution_section(design, mesh, manifest),
+        _resolution_section(design, mesh, manifest, pictures.section),
         "<h2>Physical groups</h2>",
         _table(["group", "dim", "tag", "entities", "measured", "analytic", "relative error", "unit"], group_rows(manifest)),
         "<h2>Design numbers</h2>",
@@ -343,7 +398,7 @@ def report_html(design: Design, mesh: ChannelMesh, manifest: dict[str, Any], fil
 
 
 def write_report(folder: Path, design: Design, mesh: ChannelMesh, manifest: dict[str, Any], files: list[Path],
-                 pictures: tuple[bytes, bytes] | None = None) -> Path:
+                 pictures: ReportPictures | None = None) -> Path:
     """Write ``folder/report.html`` and return its path (the build stages the folder)."""
     path = Path(folder) / REPORT
     path.write_text(report_html(design, mesh, manifest, files, pictures), encoding="utf-8")

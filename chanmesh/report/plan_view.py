@@ -9,7 +9,6 @@ across the channel.
 
 from __future__ import annotations
 
-import io
 import math
 from dataclasses import dataclass
 
@@ -25,6 +24,7 @@ from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.geometry.plan import plan_outline  # noqa: E402
 from chanmesh.geometry.stations import station_arc_lengths  # noqa: E402
 from chanmesh.report.palette import INK, INLET, PAPER, SCALE_BAR, WALL, group_colours  # noqa: E402
+from chanmesh.report.png import figure_png  # noqa: E402
 
 DPI = 100
 TOP_BAND = 44  # px: title
@@ -108,10 +108,9 @@ def plan_picture(design: Design, width: int = 1200, height: int = 800) -> PlanPi
                              transform=fig.transFigure, facecolor=SCALE_BAR, edgecolor="none", antialiased=False))
     fig.text((x0 + bar_px / 2) / width, (y_mid - BAR_HEIGHT / 2 - 4) / height, _label_mm(bar_mm),
              ha="center", va="top", fontsize=10, color=INK)
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=DPI, facecolor=PAPER)
+    png = figure_png(fig, DPI)
     plt.close(fig)
-    return PlanPicture(buf.getvalue(), width, height, px_per_mm, bar_mm, bar_px, height - y_mid)
+    return PlanPicture(png, width, height, px_per_mm, bar_mm, bar_px, height - y_mid)
 
 
 def _frame(line, s: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:  # type: ignore[no-untyped-def]

@@ -7,7 +7,6 @@ tightest bend turns left (the README's frame), u = +w/2 when it turns right.
 
 from __future__ import annotations
 
-import io
 from typing import Any
 
 import matplotlib
@@ -21,16 +20,16 @@ from matplotlib.tri import LinearTriInterpolator, Triangulation  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.section import section_shape_of  # noqa: E402
 from chanmesh.report.palette import INK, PAPER, WALL  # noqa: E402
+from chanmesh.report.png import figure_png  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
 
 UM = 1e6
 
 
 def _png(fig: Any) -> bytes:
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=100, facecolor=PAPER)
+    png = figure_png(fig)
     plt.close(fig)
-    return buf.getvalue()
+    return png
 
 
 def wall_labels(radius: float | None) -> tuple[str, str]:

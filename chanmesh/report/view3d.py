@@ -23,7 +23,6 @@ The close-ups are always drawn with matplotlib.
 
 from __future__ import annotations
 
-import io
 import os
 
 import matplotlib
@@ -38,14 +37,16 @@ from matplotlib.patches import Patch  # noqa: E402
 from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
-from chanmesh.report.drawing_surface import DrawingSurface, drawing_surface, facet_normals, surface_groups  # noqa: E402
+from chanmesh.report.drawing_surface import (  # noqa: E402
+    DrawingSurface, SurfaceFacets, drawing_surface, facet_normals, surface_facets, surface_groups)
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
+from chanmesh.report.png import figure_png  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
 
 ENGINES = ("auto", "vtk", "mpl")
 WALL_EDGE = "#7D8A94"
 
-DRAW_LIMIT = 30_000
+DRAW_LIMIT = 20_000
 """Facets drawn in the main view; a larger surface is drawn merged (``drawing_surface``)."""
 CLOSEUP_LIMIT = 6_000
 """Facets drawn in one port close-up; more are merged the same way."""
@@ -86,9 +87,9 @@ def _camera_basis(design: Design) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return _basis(view_direction(design))
 
 
-def port_names(mesh: ChannelMesh) -> list[str]:
-    """The inlet and outlet groups, inlets first."""
-    names = surface_groups(mesh)
+def port_names(mesh: ChannelMesh, facets: SurfaceFacets | None = None) -> list[str]:
+    """The inlet and outlet groups, inlets first (``facets``: ``surface_facets(mesh)`` if at hand)."""
+    names = surface_groups(mesh) if facets is None else list(facets)
     return [n for n in names if n.startswith("inlet")] + [n for n in names if n.startswith("outlet")]
 
 
@@ -181,7 +182,7 @@ def draw_surface_mpl(ax, surface: DrawingSurface, view: np.ndarray, colours: dic
         facecolors=np.concatenate(faces)[back_to_front],
         edgecolors=np.concatenate(edge_colours)[back_to_front],
         linewidths=linewidth,
-    ))
+    ), autolim=False)  # the limits are set below: no pass over every polygon for its extent
     _equal_limits(ax, screen.min(axis=0), screen.max(axis=0))  # a drawing surface carries only its own nodes
     ax.set_axis_off()
 
@@ -193,32 +194,39 @@ def _edge_colour(face: np.ndarray) -> np.ndarray:
     return 0.55 * face + 0.45 if luminance < 0.35 else 0.72 * face
 
 
-def facet_centres(mesh: ChannelMesh) -> np.ndarray:
-    """Centre (mm) of every facet of the surface groups, in ``drawing_surface``'s order."""
-    p = mesh.points * 1e3
-    return np.concatenate([p[b.cells].mean(axis=1) for n in surface_groups(mesh) for b in mesh.facets_of(n)])
+def facet_centres(mesh: ChannelMesh, facets: SurfaceFacets | None = None) -> np.ndarray:
+    """Centre (mm) of every facet of the surface groups, in ``drawing_surface``'s order.
+    ``facets``: ``surface_facets(mesh)``, when several pictures share it."""
+    facets = surface_facets(mesh) if facets is None else facets
+    p = mesh.points
+    # corner by corner: a mean over the middle axis of (m, k, 3) is several times slower
+    return np.concatenate([sum(p[c[:, j]] for j in range(c.shape[1])) * (1e3 / c.shape[1])
+                           for blocks in facets.values() for c in blocks])
 
 
-def closeup_surface(mesh: ChannelMesh, design: Design, port: str,
-                    centres: np.ndarray | None = None) -> tuple[DrawingSurface, np.ndarray]:
+def closeup_surface(mesh: ChannelMesh, design: Design, port: str, centres: np.ndarray | None = None,
+                    facets: SurfaceFacets | None = None) -> tuple[DrawingSurface, np.ndarray]:
     """The facets near one port (within 1.6 section sizes of its centre, mm) and the view
     direction that shows the port from outside, 40 degrees to its side and 30 above.
-    ``centres``: ``facet_centres(mesh)``, when several close-ups share it."""
-    p = mesh.points * 1e3
-    port_nodes = np.unique(np.concatenate([b.cells.ravel() for b in mesh.facets_of(port)]))
-    centre = p[port_nodes].mean(axis=0)
-    normal = sum((facet_normals(p, b.cells).sum(axis=0) for b in mesh.facets_of(port)), np.zeros(3))
+    ``centres``: ``facet_centres(mesh)`` and ``facets``: ``surface_facets(mesh)``, when several
+    close-ups share them."""
+    facets = surface_facets(mesh) if facets is None else facets
+    p = mesh.points
+    port_nodes = np.unique(np.concatenate([c.ravel() for c in facets[port]]))
+    centre = p[port_nodes].mean(axis=0) * 1e3
+    normal = sum((facet_normals(p, c).sum(axis=0) for c in facets[port]), np.zeros(3))
     line = centerline_of(design)
     guess = -line.tangents(np.array([0.0]))[0] if port.startswith("inlet") else line.tangents(np.array([line.length]))[0]
     outward = normal if normal @ guess >= 0 else -normal
     outward = outward / max(float(np.linalg.norm(outward)), 1e-300)
     size = max(design.section.width, design.section.max_height) * 1e3
     reach = 1.6 * size
-    blocks = [b.cells for n in surface_groups(mesh) for b in mesh.facets_of(n)]
-    centres = facet_centres(mesh) if centres is None else centres
-    near = np.linalg.norm(centres - centre, axis=1) <= reach
+    blocks = [c for cells in facets.values() for c in cells]
+    centres = facet_centres(mesh, facets) if centres is None else centres
+    d = centres - centre
+    near = d[:, 0] * d[:, 0] + d[:, 1] * d[:, 1] + d[:, 2] * d[:, 2] <= reach * reach
     keep = near & _attached(blocks, near, port_nodes, len(p))
-    surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep)
+    surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep, facets=facets)
     side = np.cross([0.0, 0.0, 1.0], outward)
     view = outward + 0.84 * side + 0.7 * np.array([0.0, 0.0, 1.0])
     return surface, view / np.linalg.norm(view)
@@ -226,22 +234,26 @@ def closeup_surface(mesh: ChannelMesh, design: Design, port: str,
 
 def _attached(blocks: list[np.ndarray], near: np.ndarray, seeds: np.ndarray, n_points: int) -> np.ndarray:
     """Facets joined to the ``seeds`` nodes through nodes shared among the ``near`` facets:
-    the port's own end of the channel, without a neighbouring turn that happens to be close."""
+    the port's own end of the channel, without a neighbouring turn that happens to be close.
+    The graph holds only the near facets and their nodes (numbered compactly)."""
     from scipy.sparse import coo_matrix
     from scipy.sparse.csgraph import connected_components
 
-    rows, cols, offset = [], [], 0
+    rows, cols, offset, count = [], [], 0, 0
     for c in blocks:
-        idx = np.arange(offset, offset + len(c))
+        cells = c[near[offset:offset + len(c)]]
         offset += len(c)
-        take = near[idx]
-        rows.append(np.repeat(idx[take], c.shape[1]))
-        cols.append(c[take].ravel())
-    r, k = np.concatenate(rows), np.concatenate(cols)
-    n = offset + n_points  # facets first, then nodes, in one bipartite graph
-    graph = coo_matrix((np.ones(len(r)), (r, offset + k)), shape=(n, n))
+        rows.append(np.repeat(np.arange(count, count + len(cells)), c.shape[1]))
+        cols.append(cells.ravel())
+        count += len(cells)
+    nodes, k = np.unique(np.concatenate(cols + [seeds]), return_inverse=True)
+    r, k, seed_ids = np.concatenate(rows), k[:-len(seeds)], k[-len(seeds):]
+    n = count + len(nodes)  # near facets first, then their nodes, in one bipartite graph
+    graph = coo_matrix((np.ones(len(r)), (r, count + k)), shape=(n, n))
     _, label = connected_components(graph, directed=False)
-    return np.isin(label[:offset], label[offset + seeds])
+    keep = np.zeros(len(near), dtype=bool)
+    keep[np.flatnonzero(near)] = np.isin(label[:count], label[count + seed_ids])
+    return keep
 
 
 def _equal_limits(ax, lo: np.ndarray, hi: np.ndarray, margin: float = 0.04) -> None:  # type: ignore[no-untyped-def]
@@ -261,8 +273,9 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
     close-up of each port below it, a title and a legend."""
     if engine not in ENGINES:
         raise ValueError(f"engine = {engine!r}, but one of {ENGINES} is expected")
-    ports = port_names(mesh)[:MAX_CLOSEUPS]
-    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3)
+    facets = surface_facets(mesh)  # fetched once for the main view and every close-up
+    ports = port_names(mesh, facets)[:MAX_CLOSEUPS]
+    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3, facets=facets)
     colours = group_colours(list(surface.polygons))
     main_box = (0.01, 0.31, 0.98, 0.60) if ports else (0.01, 0.01, 0.98, 0.86)
     image = None
@@ -276,7 +289,7 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
             ax.set_axis_off()
         else:
             draw_surface_mpl(ax, surface, view_direction(design), colours)
-        _draw_closeups(fig, mesh, design, ports, colours)
+        _draw_closeups(fig, mesh, design, ports, colours, facets)
         merged = (f"  ·  surface drawn merged, {surface.facets:,} of {surface.facets_in_mesh:,} facets"
                   f" (close-ups: every cell)" if surface.merged else "")
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
@@ -286,23 +299,23 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
         handles = [Patch(facecolor=colours[n], edgecolor=INK, linewidth=0.6, label=n) for n in surface.polygons]
         fig.legend(handles=handles, loc="upper right", frameon=True, fontsize=11, title="groups", title_fontsize=11,
                    labelcolor=INK, edgecolor="#9AA5AE", borderpad=0.8)
-        buf = io.BytesIO()
-        fig.savefig(buf, format="png", dpi=100, facecolor=PAPER)
+        png = figure_png(fig)
     finally:
         plt.close(fig)
-    return buf.getvalue()
+    return png
 
 
-def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str]) -> None:  # type: ignore[no-untyped-def]
+def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str],  # type: ignore[no-untyped-def]
+                   facets: SurfaceFacets) -> None:
     """One framed close-up per port along the bottom of the figure, titled in its colour."""
     if not ports:
         return
     slot = 0.98 / max(len(ports), 4)
     left = 0.01 + 0.5 * (0.98 - slot * len(ports))
-    centres = facet_centres(mesh)
+    centres = facet_centres(mesh, facets)
     for i, port in enumerate(ports):
         ax = fig.add_axes((left + i * slot + 0.006, 0.015, slot - 0.012, 0.255))
-        surface, view = closeup_surface(mesh, design, port, centres)
+        surface, view = closeup_surface(mesh, design, port, centres, facets)
         draw_surface_mpl(ax, surface, view, colours, linewidth=0.25)
         ax.set_axis_on()
         ax.set_xticks([])
