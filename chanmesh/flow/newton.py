@@ -12,14 +12,18 @@ bench/dean_speed.py):
   update shrinks by at least ``CHORD_RATE``;
 * continuation predicts each new point along the tangent dx/dq = J^-1 m / (m . J^-1 m), which
   the last factor gives for one back-substitution (it is the second solve of every step), and
-  lengthens the step after a quick convergence.
+  lengthens the step after a quick convergence;
+* each factorisation (``factorise``) orders J by minimum degree on J + J^T in SuperLU's
+  symmetric mode (J's pattern is symmetric): on a mesh's 72 x 28-node section grid (18,977
+  unknowns) 3.7x less fill and 3.8x less time than the column ordering (COLAMD), checked by
+  the residual of its first solve, with COLAMD and partial pivoting as the fallback.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 
@@ -86,13 +90,37 @@ class Counts:
                 "restarted_by_jumps": self.jumped}
 
 
+SYMMETRIC_CHECK = 1e-9
+"""Largest relative residual |J y - b| / |b| accepted from the symmetric-mode factor's first
+solve; above it (a tiny pivot taken on the diagonal) J is factored again with COLAMD."""
+
+
+def factorise(mat: Any, rhs: np.ndarray) -> tuple[Any, np.ndarray]:
+    """Sparse LU of the Jacobian ``mat`` (CSC) and the solution of ``mat y = rhs``.
+
+    Symmetric mode first (minimum degree on J + J^T, diagonal pivots down to 1e-3 of the
+    column's largest); if its solve leaves a residual above ``SYMMETRIC_CHECK`` of ``rhs``,
+    SuperLU's default column ordering with partial pivoting (threshold 0.01). Raises
+    ``RuntimeError`` when J is exactly singular."""
+    from scipy.sparse.linalg import splu
+
+    try:
+        lu = splu(mat, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.001, options={"SymmetricMode": True})
+        y = lu.solve(rhs)
+        scale = float(np.max(np.abs(rhs))) or 1.0
+        if np.all(np.isfinite(y)) and float(np.max(np.abs(mat @ y - rhs))) <= SYMMETRIC_CHECK * scale:
+            return lu, y
+    except RuntimeError:
+        pass
+    lu = splu(mat, diag_pivot_thresh=0.01)
+    return lu, lu.solve(rhs)
+
+
 def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: np.ndarray, counts: Counts,
            patient: bool = False) -> Point:
     """Bordered Newton (with chord steps near convergence) for (x, G) at flow rate ``q``;
     raises ``Diverged``. ``counts`` is updated with iterations and factorisations.
     ``patient``: do not give up early (up to ``MAX_NEWTON`` iterations, for long jumps)."""
-    from scipy.sparse.linalg import splu
-
     m = d.restrict(load)
     lu = None
     y2 = np.zeros(len(m))
@@ -105,10 +133,9 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
             mat = d.restrict_matrix(eq.jacobian(d.tables, kappa, x))
             counts.factorisations += 1
             try:
-                lu = splu(mat, diag_pivot_thresh=0.01)
+                lu, y2 = factorise(mat, m)
             except RuntimeError:  # exactly singular
                 raise Diverged from None
-            y2 = lu.solve(m)
         assert lu is not None
         y1 = lu.solve(-d.restrict(res))
         dg = (q - load @ x - m @ y1) / (m @ y2)
