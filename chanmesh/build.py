@@ -67,11 +67,11 @@ returns a JSON-able dict stored under its name; a hook that raises ``DesignError
 recorded as {"skipped": message} instead of failing the build."""
 
 
-SWITCH_INTERVAL_S = 0.0005
+SWITCH_INTERVAL_S = 0.0001
 """How often the interpreter passes the GIL between the build's two threads (Python's default is
 0.005 s). Each numpy call of one thread gives the GIL up and must win it back from a thread
 running Python code (matplotlib); at the default, those waits added seconds to a 1 M-cell
-build (bench/openfoam_write.py)."""
+build (bench/openfoam_write.py); 0.5 ms and 0.1 ms gave 3.45 and 3.27 s (median of four)."""
 
 BACKGROUND_HOOKS = ("resolution",)
 """Hooks run in a second thread while the main thread checks the mesh, computes the quality
@@ -79,9 +79,9 @@ figures, measures the groups and writes the formats: the resolution figure (its 
 without the GIL) starts as soon as the mesh exists; its stage times only the wait. Every
 picture of the report is drawn in the same thread (matplotlib: only there until the report):
 before the hooks it imports the report's modules (about 0.4 s) while the main thread meshes;
-after them it draws the plan and 3D views (``report_views``), then the quality histograms and
-the section pictures once the quality figures exist (``report_figures``), so the report stage
-only writes the page."""
+once the quality figures exist it draws the plan and 3D views (``report_views``), then the
+quality histograms and the section pictures (``report_figures``), beside the writers, so the
+report stage only writes the page."""
 
 
 def _report_modules() -> None:
@@ -171,7 +171,6 @@ def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale
             pool.submit(_report_modules)
             mesh = mesher_for(design).mesh(design, scale=scale, progress=clock)
             ahead = {name: pool.submit(_guarded, hook, design, mesh) for name, hook in MANIFEST_HOOKS if name in BACKGROUND_HOOKS}
-            views = pool.submit(_views, design, mesh)  # the report's plan and 3D views (matplotlib: this thread only)
             clock("checking")
             counts = check_boundary_tagging(mesh)  # makes the face table the quality figures and writers share
             mesh.info["estimated_cells"] = estimate
@@ -181,6 +180,9 @@ def _build(design: Design, out: Path, chosen: list, options: WriteOptions, scale
                 if name not in ahead:
                     clock(name)
                     extra[name] = _guarded(hook, design, mesh)
+            # the pictures (matplotlib: this thread only) after the quality figures: drawn beside
+            # them, their Python code slowed the quality batches' numpy calls by half
+            views = pool.submit(_views, design, mesh)  # plan and 3D views
             figures = pool.submit(_figures, design, mesh, dict(extra), ahead)  # histograms and section pictures
         finally:
             pool.shutdown(wait=False)  # the thread ends with its tasks; nothing waits for it on an interrupt
