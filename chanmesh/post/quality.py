@@ -27,7 +27,7 @@ from chanmesh.meshing.faces import FaceTable, face_table
 from chanmesh.post.facepairs import pair_faces
 
 CHUNK = 400_000  # cells per sum of the scaled Jacobian (the grouping fixes the mean to the last bit)
-SUB = 50_000  # cells per batch of geometry: bounds the temporaries at a few tens of MB
+SUB = 25_000  # cells per batch of geometry: bounds the temporaries at a few tens of MB (50_000: 9 MB more, no faster)
 
 _HEX_CORNERS = np.array([
     [0, 1, 3, 4], [1, 2, 0, 5], [2, 3, 1, 6], [3, 0, 2, 7],
@@ -201,8 +201,9 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     for b in mesh.volumes:
         for lo in range(0, len(b.cells), CHUNK):
             sj_parts, er_parts = [], []
-            for a in range(lo, min(lo + CHUNK, len(b.cells)), SUB):  # one batch's geometry alive at a time
-                g = _CellGeometry(mesh.points, b.cells[a:a + SUB])
+            end = min(lo + CHUNK, len(b.cells))
+            for a in range(lo, end, SUB):  # one batch's geometry alive at a time
+                g = _CellGeometry(mesh.points, b.cells[a:min(a + SUB, end)])  # never past the chunk
                 sj_parts.append(_scaled_jacobian(g, b.type))
                 er_parts.append(_edge_ratio(g, b.type))
                 centres[start + a:start + a + g.p.shape[2]] = _node_means(g)
