@@ -55,24 +55,15 @@ def _cpu(fn, repeats: int):  # type: ignore[no-untyped-def]
 
 def _child(cells: float, mesh_repeats: int, repeats: int, profile: bool, pictures: str | None) -> dict:
     sys.path.insert(0, str(HERE))
-    from hex_speed import SPIRAL, scale_for  # noqa: E402
+    from _designs import timed_bench_spiral  # noqa: E402
 
     from chanmesh.build import build
-    from chanmesh.design import loads_design
-    from chanmesh.meshing.registry import mesher_for
     from chanmesh.progress import StageClock
     from chanmesh.report.html import report_html, report_pictures
     from chanmesh.report.plan_view import plan_picture
     from chanmesh.report.view3d import mesh_picture
 
-    design = loads_design(SPIRAL)
-    scale = scale_for(cells * 1e6)
-    t_mesh = float("inf")
-    for _ in range(mesh_repeats):  # the best of a few: a 0.1 s stage on a shared machine is noisy
-        t = time.perf_counter()
-        mesh = mesher_for(design).mesh(design, scale=scale)
-        t_mesh = min(t_mesh, time.perf_counter() - t)
-        del mesh
+    design, scale, t_mesh, _ = timed_bench_spiral(cells, mesh_repeats)
     clock = StageClock(quiet=True)
     with tempfile.TemporaryDirectory(dir=os.environ.get("BENCH_TMP")) as tmp:
         t = time.perf_counter()

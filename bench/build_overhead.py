@@ -40,20 +40,9 @@ HERE = Path(__file__).resolve().parent
 def _child_mesh(cells: float, repeats: int) -> dict:
     """The mesh generation time alone (best of ``repeats``), in its own process."""
     sys.path.insert(0, str(HERE))
-    from hex_speed import SPIRAL, scale_for  # noqa: E402
+    from _designs import timed_bench_spiral  # noqa: E402
 
-    from chanmesh.design import loads_design
-    from chanmesh.meshing.registry import mesher_for
-
-    design = loads_design(SPIRAL)
-    scale = scale_for(cells * 1e6)
-    t_mesh = float("inf")
-    for _ in range(repeats):  # the best of a few: a 0.1 s stage on a shared machine is noisy
-        t = time.perf_counter()
-        mesh = mesher_for(design).mesh(design, scale=scale)
-        t_mesh = min(t_mesh, time.perf_counter() - t)
-        n = mesh.n_volume_cells
-        del mesh
+    _, _, t_mesh, n = timed_bench_spiral(cells, repeats)
     return {"cells": n, "t_mesh": t_mesh}
 
 
