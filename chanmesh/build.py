@@ -1,7 +1,7 @@
 """The build: design in, checked and labelled mesh files plus a manifest out.
 
     design -> estimate (refuse above max_cells) -> mesh -> check tagging -> manifest hooks
-           (numbers; resolution and quality in a second thread) -> measure groups (once)
+           (quality, numbers; resolution in a second thread) -> measure groups (once)
            -> write formats -> report.html -> manifest -> rename everything into place
            (manifest last)
 

@@ -51,15 +51,20 @@ def test_face_table_survives_hash_collisions(monkeypatch):
     _check_against_unique(mesh)
 
 
+def _assert_grid_pairing_is_hash_pairing(mesh: ChannelMesh) -> None:
+    """The partner of every slot from the sweep's indices equals the hash pairing's."""
+    from_grid = face_table(mesh, 4).partner
+    forget_face_tables(mesh)
+    mesh.sweep = None
+    assert np.array_equal(from_grid, face_table(mesh, 4).partner)
+
+
 @pytest.mark.parametrize("kind", ["arc", "chambers", "serpentine"])
 def test_grid_pairing_equals_hash_pairing(kind):
     """The pairing read from the sweep's indices is the hash pairing, slot for slot."""
     mesh = mesh_hex(hex_design(kind))
     assert mesh.sweep is not None and cells_follow_grid(mesh.sweep, mesh.volumes[0].cells)
-    from_grid = face_table(mesh, 4).partner
-    forget_face_tables(mesh)
-    mesh.sweep = None
-    assert np.array_equal(from_grid, face_table(mesh, 4).partner)
+    _assert_grid_pairing_is_hash_pairing(mesh)
 
 
 def test_grid_pairing_is_not_trusted_when_the_cells_moved():
@@ -108,10 +113,7 @@ def test_grid_pairing_equals_hash_pairing_on_the_templates(name):
 
     design = load_design(Path(__file__).parents[1] / "templates" / f"{name}.toml")
     mesh = mesh_hex(design, scale=0.1)
-    from_grid = face_table(mesh, 4).partner
-    forget_face_tables(mesh)
-    mesh.sweep = None
-    assert np.array_equal(from_grid, face_table(mesh, 4).partner)
+    _assert_grid_pairing_is_hash_pairing(mesh)
     sections = [g.tag for g in mesh.groups if g.name.startswith("section_")]
     boundary = sum(int(np.sum(~np.isin(b.tags, sections))) for b in mesh.facets)
     assert check_boundary_tagging(mesh)["boundary_facets"] == boundary

@@ -53,20 +53,12 @@ def grid_points(design: Design, plan: HexPlan) -> np.ndarray:
     return pts
 
 
-def _corner0(nk: int, ni: int, nj: int) -> np.ndarray:
-    """Node index of corner 0 of every cell of the full grid, (nk, ni, nj) int64."""
-    k = np.arange(nk, dtype=np.int64)[:, None, None] * ((ni + 1) * (nj + 1))
-    i = np.arange(ni, dtype=np.int64)[None, :, None] * (nj + 1)
-    j = np.arange(nj, dtype=np.int64)[None, None, :]
-    return k + i + j
-
-
-def _boundary_faces(plan: HexPlan, corner0: np.ndarray, offsets: np.ndarray) -> dict[str, list[np.ndarray]]:
-    """Boundary quads (outward node order) sorted into inlet, outlet pieces and wall."""
-    nk, ni, nj = plan.shape
-    col = plan.cell_mask()
-    if col is None:
-        col = np.ones((nk, ni), bool)
+def _boundary_faces(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
+    """Boundary quads (outward node order, full-grid node numbers) sorted into inlet, outlet
+    pieces and wall."""
+    nj = grid.shape[2]
+    col = grid.column_mask()
+    corner0, offsets = grid.corner0_grid(), grid.node_offsets()
     pad = np.pad(col, 1)
     inner = pad[1:-1, 1:-1]
     open_side = {
@@ -118,10 +110,9 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     nk, ni, nj = plan.shape
     grid = SweepGrid(plan.shape, plan.cell_mask())
     points = grid_points(design, plan).reshape(-1, 3)
-    offsets = grid.node_offsets()
     say("cells")
     cells = grid_cells(grid)
-    faces = _boundary_faces(plan, _corner0(nk, ni, nj), offsets)
+    faces = _boundary_faces(grid)
     pieces = _split_end(plan, np.concatenate(faces["inlet"]), design.inlets.names, plan.inlet_nodes)
     pieces += _split_end(plan, np.concatenate(faces["outlet"]), design.outlets.names, plan.outlet_nodes)
     pieces.append(("wall", np.concatenate(faces["wall"])))

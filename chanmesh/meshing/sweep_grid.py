@@ -48,13 +48,17 @@ class SweepGrid:
         di, dk = nj + 1, (ni + 1) * (nj + 1)
         return np.array([0, di, dk + di, dk, 1, di + 1, dk + di + 1, dk + 1], dtype=np.int64)
 
+    def corner0_grid(self) -> np.ndarray:
+        """Full-grid node number of corner 0 of every cell of the full grid, (nk, ni, nj) int64."""
+        nk, ni, nj = self.shape
+        k = np.arange(nk, dtype=np.int64)[:, None, None] * ((ni + 1) * (nj + 1))
+        i = np.arange(ni, dtype=np.int64)[None, :, None] * (nj + 1)
+        return k + i + np.arange(nj, dtype=np.int64)[None, None, :]
+
     def corner0(self) -> np.ndarray:
         """Full-grid node number of corner 0 of every cell, in cell order (m,) int64."""
-        nk, ni, nj = self.shape
-        k = np.arange(nk, dtype=np.int64)[:, None] * ((ni + 1) * (nj + 1))
-        i = np.arange(ni, dtype=np.int64)[None, :] * (nj + 1)
-        col = (k + i)[self.column_mask()]  # (columns,) in (k, i) order
-        return (col[:, None] + np.arange(nj, dtype=np.int64)[None, :]).reshape(-1)
+        full = self.corner0_grid()
+        return full.reshape(-1) if self.columns is None else full[self.column_mask()].reshape(-1)
 
     def node_numbers(self) -> np.ndarray:
         """Full-grid node number -> mesh node number (-1 for nodes of absent columns)."""
