@@ -18,7 +18,8 @@ bench/dean_speed.py):
   mode: on a 72 x 28-node grid (18,977 unknowns) 3.7x less fill and 3.8x less time than the
   column ordering (COLAMD), checked by the residual of its first solve, with COLAMD and partial
   pivoting as the fallback. The reference (P2-P1) Jacobians keep COLAMD: their pressure rows
-  have no diagonal, and symmetric mode filled them 5x more (measured on 2,453 unknowns).
+  have no diagonal, and in symmetric mode `chanmesh numbers`' Dean solve (2,453 unknowns)
+  took 0.36 s instead of 0.12 s.
 """
 
 from __future__ import annotations
