@@ -81,7 +81,9 @@ def plan_picture(design: Design, width: int = 1200, height: int = 800) -> PlanPi
     ax.set_xlim(centre[0] - half[0], centre[0] + half[0])
     ax.set_ylim(centre[1] - half[1], centre[1] + half[1])
     ax.set_axis_off()
-    ax.add_patch(Polygon(pts_mm, closed=True, facecolor=WALL, edgecolor=INK, linewidth=0.8))
+    # add_artist, not add_patch: the limits are set above, and add_patch's pass over every
+    # segment of the outline for the data limits cost 0.06 s of the 0.12 s picture
+    ax.add_artist(Polygon(pts_mm, closed=True, facecolor=WALL, edgecolor=INK, linewidth=0.8))
 
     colours = group_colours([*design.inlets.names, *design.outlets.names])
     for port, s_end, into in ((design.inlets, 0.0, True), (design.outlets, line.length, False)):
@@ -129,7 +131,7 @@ def _port_arrow(ax, line, s: float, u: float, length: float, colour: str, label:
     gap = 0.06 * length
     tail = p - t * (length + gap) if into else p + t * gap
     head = 0.28 * length
-    ax.add_patch(FancyArrow(*tail, *(t * length), width=0.09 * length, head_width=0.3 * length,
+    ax.add_artist(FancyArrow(*tail, *(t * length), width=0.09 * length, head_width=0.3 * length,
                             head_length=head, length_includes_head=True, color=colour, linewidth=0))
     text_at = tail - t * 0.12 * length if into else tail + t * 1.12 * length
     # the label sits beyond the arrow, aligned away from it so fanned outlet labels stay apart
