@@ -292,3 +292,22 @@ cells_across = 3
     # half a width plus the reach of the inlet centre
     assert np.all(np.linalg.norm(surface.points[used] - centre, axis=1) <= 0.05 + 0.16 + 0.07)
     assert radius.max() < 1.0
+
+
+def test_facet_normals_equal_the_cross_product_of_the_diagonals():
+    """The column-by-column normals are numpy's cross product of the diagonals (quads) or of
+    two edges (triangles), to the bit: half the diagonals' cross product is a planar
+    quadrilateral's vector area (Bronshtein & Semendyayev, Handbook of Mathematics, vector
+    product; a quad's area = |d1 x d2| / 2)."""
+    from chanmesh.report.drawing_surface import facet_normals
+
+    rng = np.random.default_rng(7)
+    points = rng.normal(size=(50, 3))
+    quads = rng.integers(0, 50, size=(200, 4))
+    p = points[quads]
+    assert np.array_equal(facet_normals(points, quads), 0.5 * np.cross(p[:, 2] - p[:, 0], p[:, 3] - p[:, 1]))
+    tris = quads[:, :3]
+    p = points[tris]
+    assert np.array_equal(facet_normals(points, tris), 0.5 * np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]))
+    square = np.array([[0.0, 0, 0], [2, 0, 0], [2, 3, 0], [0, 3, 0]])  # a 2 x 3 rectangle in the xy plane
+    assert np.allclose(facet_normals(square, np.array([[0, 1, 2, 3]])), [[0.0, 0.0, 6.0]])
