@@ -14,7 +14,6 @@ from __future__ import annotations
 import io
 from typing import Any
 
-import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from PIL import Image
 
@@ -27,7 +26,8 @@ def figure_png(fig: Any, dpi: int = 100) -> bytes:
     fig.set_dpi(dpi)
     canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
     canvas.draw()
-    rgba = np.asarray(canvas.buffer_rgba())
+    width, height = canvas.get_width_height(physical=True)
+    rgb = Image.frombuffer("RGBA", (width, height), canvas.buffer_rgba(), "raw", "RGBA", 0, 1).convert("RGB")
     buf = io.BytesIO()
-    Image.fromarray(rgba[:, :, :3]).save(buf, format="png", compress_level=3, dpi=(dpi, dpi))
+    rgb.save(buf, format="png", compress_level=3, dpi=(dpi, dpi))
     return buf.getvalue()

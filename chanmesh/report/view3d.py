@@ -324,4 +324,5 @@ def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], col
             spine.set_edgecolor(colours[port])
             spine.set_linewidth(2.0)
         note = "every cell" if not surface.merged else "merged for drawing"
-        ax.set_title(f"{port}  ·  close-up, {note}", fontsize=9.5, color=INK, loc="left", pad=3)
+        ax.set_title(f"{port}  ·  close-up, {note}", fontsize=9.5, color=INK, loc="left", pad=3,
+                     y=1.0)  # placed, not searched for tick labels to dodge: the close-ups have none
