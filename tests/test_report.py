@@ -159,3 +159,25 @@ def test_report_speaks_as_the_design_file_does(built):
     velocity = numbers["dean"]["stations"][0]["dean_velocity_m_s"] * 1e3
     assert f"{velocity:.6g}" in text
     assert "report.html this page" in text and "manifest.json written last" in text
+
+
+def test_histograms_sharing_one_figure_are_drawn_as_alone():
+    """The quality histograms share one figure and axes (histogram_pngs swaps the bars): each
+    picture must be the one its chart gives drawn alone, pixel for pixel, whatever came
+    before it: a count of millions (matplotlib's 1e6 offset above the axis, the title lifted
+    over it), a range of micrometres, a range of -1..1. The pictures are opaque RGB PNGs."""
+    from chanmesh.report.charts import histogram_pngs
+
+    charts = [
+        ("scaled Jacobian", np.linspace(-1.0, 1.0, 41), np.r_[np.zeros(38), 1.0, 4.0e6]),
+        ("wall-adjacent cell (µm)", np.linspace(0.79680, 0.79690, 31), np.arange(30.0) ** 3),
+        ("aspect ratio", np.linspace(1.0, 3.0, 21), np.full(20, 7.0)),
+    ]
+    together = histogram_pngs(charts)
+    for chart, png in zip(charts, together):
+        alone = np.asarray(Image.open(io.BytesIO(histogram_pngs([chart])[0])))
+        shared = Image.open(io.BytesIO(png))
+        assert shared.mode == "RGB" and shared.size == (520, 300)
+        assert np.array_equal(np.asarray(shared), alone)
+    assert len({bytes(p) for p in together}) == 3  # three different pictures, not one redrawn
+    assert histogram_pngs([]) == []

@@ -41,18 +41,29 @@ def histogram_of(entry: Any) -> tuple[np.ndarray, np.ndarray] | None:
     return e, c
 
 
-def histogram_png(name: str, edges: np.ndarray, counts: np.ndarray, width: int = 520, height: int = 300) -> bytes:
-    """A bar chart of one histogram, PNG bytes: the bars as one filled outline and their
-    separators as one set of lines (two artists, not one rectangle per bin), on a figure
-    outside pyplot's figure manager."""
+def histogram_pngs(charts: list[tuple[str, np.ndarray, np.ndarray]], width: int = 520, height: int = 300) -> list[bytes]:
+    """Bar charts of (name, edges, counts) histograms, PNG bytes each: the bars as one filled
+    outline and their separators as one set of lines (two artists, not one rectangle per bin).
+
+    One figure and one axes serve every chart (its bars swapped, its limits recomputed), on a
+    figure outside pyplot's figure manager: an axes and its ticks cost more to make than to
+    draw (three charts 0.19 -> 0.15 s), and each picture is the one a fresh figure gives."""
+    if not charts:
+        return []
     fig = Figure(figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER)
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.16, 0.18, 0.80, 0.70))  # room for the "cells" label beside six-digit counts
-    ax.stairs(counts, edges, fill=True, color=INLET, linewidth=0)
-    ax.vlines(edges[1:-1], 0.0, np.maximum(counts[:-1], counts[1:]), colors=PAPER, linewidth=0.4)
-    ax.set_title(name.replace("_", " "), color=INK, fontsize=11, loc="left")
     ax.set_ylabel("cells", color=INK)
     ax.tick_params(colors=INK, labelsize=9)
     for side in ("top", "right"):
         ax.spines[side].set_visible(False)
-    return figure_png(fig)
+    out = []
+    for name, edges, counts in charts:
+        for artist in [*ax.patches, *ax.collections]:
+            artist.remove()
+        ax.ignore_existing_data_limits = True  # the limits of this chart's bars only
+        ax.stairs(counts, edges, fill=True, color=INLET, linewidth=0)
+        ax.vlines(edges[1:-1], 0.0, np.maximum(counts[:-1], counts[1:]), colors=PAPER, linewidth=0.4)
+        ax.set_title(name.replace("_", " "), color=INK, fontsize=11, loc="left")
+        out.append(figure_png(fig))
+    return out

@@ -21,7 +21,7 @@ from chanmesh.design.model import Design
 from chanmesh.errors import DesignError
 from chanmesh.geometry.section import section_shape_of
 from chanmesh.meshing.model import ChannelMesh
-from chanmesh.report.charts import histogram_of, histogram_png
+from chanmesh.report.charts import histogram_of, histogram_pngs
 from chanmesh.report.palette import INK, INLET, WALL
 from chanmesh.report.plan_view import plan_picture
 from chanmesh.report.view3d import mesh_picture
@@ -172,8 +172,8 @@ def quality_charts(quality: Any) -> list[tuple[str, bytes]]:
             label = metric_label(name)
             if name.endswith("_m"):
                 label, edges = f"{label} (µm)", edges * 1e6
-            charts.append((f"histogram of {label}", histogram_png(label, edges, counts)))
-    return charts
+            charts.append((label, edges, counts))
+    return [(f"histogram of {label}", png) for (label, _, _), png in zip(charts, histogram_pngs(charts))]
 
 
 def _quality_section(manifest: dict[str, Any], charts: list[tuple[str, bytes]] | None = None) -> str:
