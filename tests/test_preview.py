@@ -311,3 +311,26 @@ def test_facet_normals_equal_the_cross_product_of_the_diagonals():
     assert np.array_equal(facet_normals(points, tris), 0.5 * np.cross(p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]))
     square = np.array([[0.0, 0, 0], [2, 0, 0], [2, 3, 0], [0, 3, 0]])  # a 2 x 3 rectangle in the xy plane
     assert np.allclose(facet_normals(square, np.array([[0, 1, 2, 3]])), [[0.0, 0.0, 6.0]])
+
+
+def test_numbered_surface_gives_the_same_drawing_and_centres(fine_arc_mesh):
+    """The main view and the close-ups share the surface numbered once (numbered_surface):
+    the merged and unmerged drawings and the facet centres must be those computed from the
+    mesh itself, to the bit; the centres are the corners' mean (numpy's mean as reference)."""
+    from chanmesh.report.drawing_surface import drawing_surface, numbered_surface, surface_facets
+    from chanmesh.report.view3d import facet_centres
+
+    facets = surface_facets(fine_arc_mesh)
+    numbered = numbered_surface(fine_arc_mesh, facets)
+    total = sum(len(c) for blocks in facets.values() for c in blocks)
+    for limit in (10**9, total // 3):
+        alone = drawing_surface(fine_arc_mesh, limit, 1e3, facets=facets)
+        shared = drawing_surface(fine_arc_mesh, limit, 1e3, facets=facets, numbered=numbered)
+        assert np.array_equal(alone.points, shared.points) and alone.cube == shared.cube
+        assert list(alone.polygons) == list(shared.polygons)
+        for name in alone.polygons:
+            assert all(np.array_equal(a, b) for a, b in zip(alone.polygons[name], shared.polygons[name], strict=True))
+    centres = facet_centres(fine_arc_mesh, facets, numbered)
+    assert np.array_equal(centres, facet_centres(fine_arc_mesh, facets))
+    corners = np.concatenate([fine_arc_mesh.points[c].mean(axis=1) * 1e3 for blocks in facets.values() for c in blocks])
+    assert np.allclose(centres, corners, rtol=0, atol=1e-12)

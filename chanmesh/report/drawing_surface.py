@@ -70,27 +70,52 @@ def surface_groups(mesh: ChannelMesh) -> list[str]:
     return list(surface_facets(mesh))
 
 
+@dataclass(frozen=True)
+class NumberedSurface:
+    """Every surface group's facets renumbered into the surface's own nodes, made once for a
+    picture: the main view's merge and the close-ups' facet centres share it, and gathers from
+    the surface's nodes are cheaper than from the whole mesh's (a 4 M-hexahedron spiral: 0.3 M
+    surface nodes of 4.1 M)."""
+
+    points: np.ndarray  # (m, 3) the surface's nodes, mesh unit, in mesh node order
+    blocks: list[tuple[int, np.ndarray]]  # (group index in surface_facets' order, block in local numbers)
+
+
+def numbered_surface(mesh: ChannelMesh, facets: SurfaceFacets | None = None) -> NumberedSurface:
+    """The surface groups' facets (``facets``: ``surface_facets(mesh)`` if at hand) over the
+    surface's own nodes."""
+    facets = surface_facets(mesh) if facets is None else facets
+    nodes, blocks = _numbered(len(mesh.points), [(gi, c) for gi, blocks in enumerate(facets.values()) for c in blocks])
+    return NumberedSurface(mesh.points[nodes], blocks)
+
+
 def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0, names: list[str] | None = None,
-                    keep: np.ndarray | None = None, facets: SurfaceFacets | None = None) -> DrawingSurface:
+                    keep: np.ndarray | None = None, facets: SurfaceFacets | None = None,
+                    numbered: NumberedSurface | None = None) -> DrawingSurface:
     """The facets of ``names`` (default: every surface group) to draw, at most ``limit`` of them.
 
     ``scale`` multiplies the coordinates (1e3 draws in mm). ``keep`` (bool per facet of each
     group block, in the order of ``surface_facets``) restricts the facets first, for close-ups.
-    ``facets``: ``surface_facets(mesh)``, when several pictures share it.
+    ``facets``: ``surface_facets(mesh)`` and ``numbered``: ``numbered_surface(mesh, facets)``,
+    when several pictures share them (``numbered`` serves the whole surface: no ``names``, no ``keep``).
     """
     facets = surface_facets(mesh) if facets is None else facets
     names = list(facets) if names is None else names
-    blocks: list[tuple[int, np.ndarray]] = []
-    i = 0
-    for gi, name in enumerate(names):
-        for cells in facets.get(name, []):
-            if keep is not None:
-                i, cells = i + len(cells), cells[keep[i:i + len(cells)]]
-            if len(cells):
-                blocks.append((gi, cells))
-    total = sum(len(c) for _, c in blocks)
-    nodes, blocks = _numbered(len(mesh.points), blocks)
-    points = mesh.points[nodes]  # the surface's own nodes, mesh unit
+    if numbered is not None and keep is None and names == list(facets):
+        points, blocks = numbered.points, numbered.blocks
+        total = sum(len(c) for _, c in blocks)
+    else:
+        blocks = []
+        i = 0
+        for gi, name in enumerate(names):
+            for cells in facets.get(name, []):
+                if keep is not None:
+                    i, cells = i + len(cells), cells[keep[i:i + len(cells)]]
+                if len(cells):
+                    blocks.append((gi, cells))
+        total = sum(len(c) for _, c in blocks)
+        nodes, blocks = _numbered(len(mesh.points), blocks)
+        points = mesh.points[nodes]  # the surface's own nodes, mesh unit
     if total <= limit:
         return DrawingSurface(points * scale, _by_name(names, blocks), total, 0.0)
     # each group merged on its own, to its share of the limit but never below a few hundred

@@ -38,7 +38,8 @@ from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
 from chanmesh.report.drawing_surface import (  # noqa: E402
-    DrawingSurface, SurfaceFacets, drawing_surface, facet_normals, surface_facets, surface_groups)
+    DrawingSurface, NumberedSurface, SurfaceFacets, drawing_surface, facet_normals, numbered_surface, surface_facets,
+    surface_groups)
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
 from chanmesh.report.png import figure_png  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
@@ -194,14 +195,18 @@ def _edge_colour(face: np.ndarray) -> np.ndarray:
     return 0.55 * face + 0.45 if luminance < 0.35 else 0.72 * face
 
 
-def facet_centres(mesh: ChannelMesh, facets: SurfaceFacets | None = None) -> np.ndarray:
+def facet_centres(mesh: ChannelMesh, facets: SurfaceFacets | None = None,
+                  numbered: NumberedSurface | None = None) -> np.ndarray:
     """Centre (mm) of every facet of the surface groups, in ``drawing_surface``'s order.
-    ``facets``: ``surface_facets(mesh)``, when several pictures share it."""
-    facets = surface_facets(mesh) if facets is None else facets
-    p = mesh.points
+    ``facets``: ``surface_facets(mesh)`` and ``numbered``: ``numbered_surface(mesh, facets)``,
+    when several pictures share them (the same centres, gathered from the surface's own nodes)."""
+    if numbered is None:
+        facets = surface_facets(mesh) if facets is None else facets
+        p, blocks = mesh.points, [c for cells in facets.values() for c in cells]
+    else:
+        p, blocks = numbered.points, [c for _, c in numbered.blocks]
     # corner by corner: a mean over the middle axis of (m, k, 3) is several times slower
-    return np.concatenate([sum(p[c[:, j]] for j in range(c.shape[1])) * (1e3 / c.shape[1])
-                           for blocks in facets.values() for c in blocks])
+    return np.concatenate([sum(p[c[:, j]] for j in range(c.shape[1])) * (1e3 / c.shape[1]) for c in blocks])
 
 
 def closeup_surface(mesh: ChannelMesh, design: Design, port: str, centres: np.ndarray | None = None,
@@ -273,9 +278,10 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
     close-up of each port below it, a title and a legend."""
     if engine not in ENGINES:
         raise ValueError(f"engine = {engine!r}, but one of {ENGINES} is expected")
-    facets = surface_facets(mesh)  # fetched once for the main view and every close-up
+    facets = surface_facets(mesh)  # fetched and numbered once for the main view and every close-up
+    numbered = numbered_surface(mesh, facets)
     ports = port_names(mesh, facets)[:MAX_CLOSEUPS]
-    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3, facets=facets)
+    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3, facets=facets, numbered=numbered)
     colours = group_colours(list(surface.polygons))
     main_box = (0.01, 0.31, 0.98, 0.60) if ports else (0.01, 0.01, 0.98, 0.86)
     image = None
@@ -289,7 +295,7 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
             ax.set_axis_off()
         else:
             draw_surface_mpl(ax, surface, view_direction(design), colours)
-        _draw_closeups(fig, mesh, design, ports, colours, facets)
+        _draw_closeups(fig, mesh, design, ports, colours, facets, numbered)
         merged = (f"  ·  surface drawn merged, {surface.facets:,} of {surface.facets_in_mesh:,} facets"
                   f" (close-ups: every cell)" if surface.merged else "")
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
@@ -306,13 +312,13 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
 
 
 def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str],  # type: ignore[no-untyped-def]
-                   facets: SurfaceFacets) -> None:
+                   facets: SurfaceFacets, numbered: NumberedSurface | None = None) -> None:
     """One framed close-up per port along the bottom of the figure, titled in its colour."""
     if not ports:
         return
     slot = 0.98 / max(len(ports), 4)
     left = 0.01 + 0.5 * (0.98 - slot * len(ports))
-    centres = facet_centres(mesh, facets)
+    centres = facet_centres(mesh, facets, numbered)
     for i, port in enumerate(ports):
         ax = fig.add_axes((left + i * slot + 0.006, 0.015, slot - 0.012, 0.255))
         surface, view = closeup_surface(mesh, design, port, centres, facets)
