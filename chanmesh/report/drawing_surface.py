@@ -222,8 +222,9 @@ def _pairs(points: np.ndarray, blocks: list[np.ndarray]) -> _Pairs:
     has = np.zeros(6 * len(points), dtype=bool)
     for s in slots:
         has[s.ravel()] = True
-    index = np.cumsum(has) - 1
     pairs = np.flatnonzero(has)
+    index = np.empty(len(has), dtype=np.int64)  # pair number of each used slot (others never read)
+    index[pairs] = np.arange(len(pairs))
     six = has.reshape(-1, 6)
     rank = sum(six[:, j].astype(np.int8) for j in range(6))
     return _Pairs(pairs // 6, pairs % 6, rank[pairs // 6], [index[s] for s in slots], area)
