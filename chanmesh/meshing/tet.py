@@ -15,7 +15,7 @@ from chanmesh.design.model import Design
 from chanmesh.gmshlayer.background import install_size_field, size_grid
 from chanmesh.sizing import tet_grading
 from chanmesh.gmshlayer.labels import label_boundary, split_ends
-from chanmesh.gmshlayer.sections import embed_sections
+from chanmesh.gmshlayer.sections import embed_sections, surface_splits
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
 from chanmesh.meshing.model import Block, ChannelMesh, Group
@@ -73,8 +73,9 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
         say("geometry")
         volume = build_solid(design)
         volume = split_ends(design, volume)
-        pieces, sections = embed_sections(design, volume)
-        label_boundary(design, pieces, sections)
+        splits = surface_splits(design, grading.h_wall, grading.h_core_min)
+        pieces, sections, cuts = embed_sections(design, volume, splits)
+        label_boundary(design, pieces, sections, unnamed=cuts)
         say("meshing")
         install_size_field(grid, MODEL_UNIT)
         gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay surfaces
@@ -90,6 +91,7 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
             "core_cell": grading.h_core_min,
             "growth_ratio": grading.ratio,
             "estimated_cells": estimate,
+            "surface_pieces": len(splits) + 1,
             "tets_with_two_wall_faces": count_multi_wall_tets(mesh),
         }
     )
