@@ -37,6 +37,10 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
     order = np.argsort(node_tags)
     node_tags = node_tags[order]
     points = coords.reshape(-1, 3)[order] * model_unit
+    # node tag -> row of ``points`` by one gather (gmsh numbers nodes 1..n; a table of the
+    # largest tag's size), instead of a binary search per corner
+    row_of = np.full(int(node_tags[-1]) + 1 if len(node_tags) else 1, -1, np.int64)
+    row_of[node_tags] = np.arange(len(node_tags))
     groups: list[Group] = []
     blocks: dict[tuple[int, str], list[tuple[np.ndarray, int]]] = {}
     for dim, tag in gmsh.model.getPhysicalGroups():
@@ -47,7 +51,7 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
             for t, c in zip(types, conn):
                 kind = GMSH_TYPES[int(t)]
                 k = {"tetra": 4, "triangle": 3, "hexahedron": 8, "quad": 4, "wedge": 6}[kind]
-                idx = np.searchsorted(node_tags, c).reshape(-1, k)
+                idx = row_of[c].reshape(-1, k)
                 blocks.setdefault((dim, kind), []).append((idx, tag))
     vols, facs = [], []
     for (dim, kind), parts in sorted(blocks.items()):
@@ -55,7 +59,10 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
         tags = np.concatenate([np.full(len(p), t) for p, t in parts])
         (vols if dim == 3 else facs).append(Block(kind, cells, tags))
     # keep only nodes used by some cell, numbered in order
-    used = np.unique(np.concatenate([b.cells.ravel() for b in vols + facs]))
+    mask = np.zeros(len(points), bool)
+    for b in vols + facs:
+        mask[b.cells.ravel()] = True
+    used = np.flatnonzero(mask)  # ascending, as np.unique gave, without its sort of every corner
     remap = np.full(len(points), -1, np.int64)
     remap[used] = np.arange(len(used))
     for b in vols + facs:
