@@ -24,16 +24,19 @@ from pathlib import Path
 
 from _designs import bench_design_text
 
-SPIRAL = bench_design_text(
-    "bench-spiral",
-    """
+SPIRAL_PATH = """
 kind = "spiral"
 inner_radius = 1500
 pitch = 450
 turns = 4
 inlet_length = 500
 outlet_length = 500
-""",
+"""
+"""The bench spiral's [path] table (shared with bench/tet_speed.py)."""
+
+SPIRAL = bench_design_text(
+    "bench-spiral",
+    SPIRAL_PATH,
     """
 cells = "hex"
 cells_across = 16

@@ -3,12 +3,18 @@ under the background size field, gmsh's optimiser, extraction (issue 14: a 1 M-t
 least 3x faster than before; issue 15 item 4: the thin arc that kept gmsh busy).
 
 Run:  PYTHONPATH=$PWD python bench/tet_speed.py [--cells 0.2] [--stuck]
+      PYTHONPATH=$PWD python bench/tet_speed.py --build [--root OTHER_TREE ...]
 
 ``--cells`` refines the bench spiral (bench/hex_speed.py, as tetrahedra with wall_ratio 1.2)
 to about that many million tetrahedra (bisection on the estimate). ``--stuck`` instead meshes
 the 30 x 12 um arc of issue 15 item 4 with the optimiser inside ``generate`` and after it.
 Each run is in-process (not the child process of meshing/tet_process.py) so that the stages
 can be timed; gmsh's own ``generate(2)`` then ``generate(3)`` split the surface from the volume.
+
+``--build`` times the whole ``build`` (default formats and the report, as the command line
+runs it) of ``BUILD_SPIRAL``, about a million tetrahedra with every size given explicitly, in a
+fresh process per source tree (``--root``, repeatable, e.g. an export of an older commit), so
+before/after ratios come from one run on one machine load (issue 14: at least 3x faster).
 """
 
 from __future__ import annotations
@@ -26,6 +32,64 @@ STUCK = (
     '[path]\nkind = "arc"\nradius = 300\nangle = 180\ninlet_length = 90\noutlet_length = 90\n'
     '[mesh]\ncells = "tet"\ncells_across = 6\nfirst_cell = 1.5\nmax_cells = 200000\n'
 )
+
+
+BUILD_SPIRAL_MESH = 'cells = "tet"\ncells_across = 10\nfirst_cell = 13\nwall_ratio = 1.5\nmax_cells = 5000000'
+"""The bench spiral's [mesh] table for ``--build``: about 1.0 M tetrahedra (estimate 1.15 M)."""
+
+
+def _child_build() -> dict:
+    """The whole build of the tetrahedral bench spiral in this process (the tree on PYTHONPATH)."""
+    import json
+    import os
+    import resource
+    import tempfile
+
+    sys.path.insert(0, str(HERE))
+    from _designs import bench_design_text
+    from hex_speed import SPIRAL_PATH
+
+    from chanmesh.build import build
+    from chanmesh.design import loads_design
+    from chanmesh.progress import StageClock
+
+    design = loads_design(bench_design_text("bench-spiral-tet", SPIRAL_PATH, BUILD_SPIRAL_MESH))
+    clock = StageClock(quiet=True)
+    with tempfile.TemporaryDirectory(dir=os.environ.get("BENCH_TMP")) as tmp:
+        t = time.perf_counter()
+        build(design, Path(tmp) / "out", clock=clock)
+        t_build = time.perf_counter() - t
+        manifest = json.loads((Path(tmp) / "out" / "manifest.json").read_text())
+    # the peak of this process, which holds the mesh once the meshing process (a grandchild
+    # under multiprocessing's forkserver, so neither its CPU nor its memory is counted) sends it
+    stages = clock.durations() if hasattr(clock, "durations") else {}
+    counts = manifest.get("cells") or {}
+    return {"t_build": t_build, "stages": stages, "tets": counts.get("tetra", 0),
+            "peak": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0}
+
+
+def whole_builds(roots: list[Path]) -> None:
+    """``--build``: each tree's whole build in a child process, then the ratios to the first."""
+    import json
+    import os
+    import subprocess
+
+    results = []
+    print(f"{'tree':<28} {'tetrahedra':>10} {'build s':>8} {'peak MB':>8}  stages (s)")
+    for root in roots:
+        env = {**os.environ, "PYTHONPATH": str(root.resolve())}
+        done = subprocess.run([sys.executable, __file__, "--child-build"], capture_output=True, text=True, env=env,
+                              cwd=str(root.resolve()))
+        if done.returncode:
+            raise SystemExit(f"child failed for {root}:\n{done.stderr}")
+        r = json.loads(done.stdout.strip().splitlines()[-1])
+        results.append(r)
+        shown = ", ".join(f"{k} {v:.1f}" for k, v in r["stages"].items() if v >= 0.05)
+        print(f"{str(root)[-28:]:<28} {r['tets']:>10,} {r['t_build']:>8.1f} {r['peak'] / 2**20:>8,.0f}  {shown}",
+              flush=True)
+    for root, r in zip(roots[1:], results[1:]):
+        print(f"{str(roots[0])[-28:]} / {str(root)[-28:]}: {results[0]['t_build'] / r['t_build']:.2f}x the wall time "
+              "(issue 14 target: at least 3x)")
 
 
 def timed_mesh(design, scale: float, optimise_after: bool = False) -> dict:  # type: ignore[no-untyped-def]
@@ -78,7 +142,18 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--cells", type=float, default=0.2, help="millions of tetrahedra (default 0.2)")
     ap.add_argument("--stuck", action="store_true", help="the issue-15 arc, optimiser inside and after generate")
+    ap.add_argument("--build", action="store_true", help="whole builds of the ~1 M-tet spiral, one per --root")
+    ap.add_argument("--root", action="append", type=Path, help="source tree for --build (repeatable; default this one)")
+    ap.add_argument("--child-build", action="store_true", help=argparse.SUPPRESS)
     args = ap.parse_args()
+    if args.child_build:
+        import json
+
+        print(json.dumps(_child_build()))
+        return
+    if args.build:
+        whole_builds(args.root or [HERE.parent])
+        return
     from chanmesh.design import loads_design
     from chanmesh.meshing.tet import estimate_tet_cells
 

@@ -310,6 +310,12 @@ def choose_core_cells(design: Design) -> int:
 _CHOSEN: dict[tuple, int] = {}
 
 
+TETRAHEDRA_NOTE = ("note: the figure's finite-volume factors come from hexahedra; on tetrahedra a finite-volume "
+                   "solver's secondary flow is far noisier (demo arc: +133 % on its maximum where the figure said -6 %); "
+                   "use hexahedra for the Dean flow: docs/resolution.md")
+"""Said under the figure for a tetrahedral mesh (measured in OpenFOAM, docs/resolution.md)."""
+
+
 def summary_lines(record: dict[str, Any]) -> list[str]:
     """The terminal summary: one line of figures, and a warning line above ``WARN_ABOVE``."""
     if "errors" not in record:
@@ -321,6 +327,8 @@ def summary_lines(record: dict[str, Any]) -> list[str]:
     figures = ", ".join(f"{k.replace('_', ' ')} {v:+.2%}" for k, v in e.items())
     lines = [f"resolution ({where}): {figures} against the converged section flow"
              + ("" if record["passes"] else " (a finite-volume solver would miss 5 % / 1 %: docs/resolution.md)")]
+    if record.get("mesh_grid", {}).get("cell_kind") == "triangle":
+        lines.append(TETRAHEDRA_NOTE)
     if record["warning"]:
         worst = max(e, key=lambda k: abs(e[k]))
         lines.append(f"warning: this mesh misses the developed section flow by {abs(e[worst]):.0%} ({worst.replace('_', ' ')}); "

@@ -35,7 +35,10 @@ def _dolfinx_missing() -> str | None:
         r = subprocess.run([PYTHON, "-c", "import dolfinx, gmsh"], capture_output=True, timeout=120)
     except (OSError, subprocess.TimeoutExpired) as exc:
         return f"{PYTHON} cannot run: {exc}"
-    return None if r.returncode == 0 else f"{PYTHON} has no dolfinx/gmsh (Debian: apt-get install python3-dolfinx python3-gmsh)"
+    if r.returncode == 0:
+        return None
+    said = (r.stderr.decode(errors="replace").strip().splitlines() or ["no message"])[-1]
+    return f"{PYTHON} has no dolfinx/gmsh (Debian: apt-get install python3-dolfinx python3-gmsh): {said}"
 
 
 MISSING = _dolfinx_missing()

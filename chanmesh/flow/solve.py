@@ -8,8 +8,10 @@ and a Richardson error estimate. Dimensionless inside with the viscous velocity 
 from __future__ import annotations
 
 import math
+import threading
 import time
-from typing import Any, Sequence
+from collections import OrderedDict
+from typing import Any, Callable, Sequence
 
 import numpy as np
 
@@ -83,6 +85,54 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
             raise ChanmeshError("section flow: branch = four-cell: needs a bend (a radius) and a rectangular section "
                                 "(height_inner = height_outer), whose flow is symmetric about mid-height")
         grid = mirrored(grid)
+    if estimate_error is None:
+        estimate_error = discretisation == "reference" and made_default
+
+    def solve() -> SectionFlow:
+        return _solve(shape, radius, density, viscosity, flow_rate, grid, discretisation, initial, branch)
+
+    if made_default and initial is None:  # the same problem asked twice (a build's numbers and resolution)
+        flow = _shared((shape, radius, density, viscosity, flow_rate, discretisation, branch), solve)
+    else:
+        flow = solve()
+    error = None
+    if estimate_error:
+        error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation, branch)
+    return _replace(flow, error=error)
+
+
+SHARED_KEEP = 8
+"""Solutions on the default grid kept for a second caller (``_shared``)."""
+
+_SHARED: OrderedDict[tuple, SectionFlow] = OrderedDict()
+_SHARED_LOCKS: dict[tuple, threading.Lock] = {}
+_SHARED_GUARD = threading.Lock()
+
+
+def _shared(key: tuple, solve: Callable[[], SectionFlow]) -> SectionFlow:
+    """``solve()`` once per ``key``: a second caller gets the same solution, and one that asks
+    while the first is solving waits for it instead of solving again (a build asks for the
+    same default-grid flow in its numbers and, on its second thread, in its resolution figure)."""
+    with _SHARED_GUARD:
+        lock = _SHARED_LOCKS.setdefault(key, threading.Lock())
+    with lock:
+        with _SHARED_GUARD:
+            if key in _SHARED:
+                _SHARED.move_to_end(key)
+                return _SHARED[key]
+        flow = solve()  # a failure is not kept: the next caller tries again
+        with _SHARED_GUARD:
+            _SHARED[key] = flow
+            while len(_SHARED) > SHARED_KEEP:
+                old, _ = _SHARED.popitem(last=False)
+                _SHARED_LOCKS.pop(old, None)
+        return flow
+
+
+def _solve(shape: Any, radius: float | None, density: float, viscosity: float, flow_rate: float, grid: SectionGrid,
+           discretisation: str, initial: SectionFlow | None, branch: str) -> SectionFlow:
+    """The solve itself on ``grid`` (already mirrored for the four-cell branch):
+    ``solve_section_flow`` without its checks and error estimate."""
     t0 = time.perf_counter()
     length = shape.hydraulic_diameter
     d = discretise(grid, discretisation, length)
@@ -149,12 +199,7 @@ def solve_section_flow(section: Any, radius: float | None, density: float, visco
                       "rate along the tangent"
                       + ("; four-cell branch: pseudo-arclength continuation of the mirror-symmetric states in the "
                          "flow rate round the limit points (flow/branch.py)" if branch == "four-cell" else ""))
-    error = None
-    if estimate_error is None:
-        estimate_error = discretisation == "reference" and made_default
-    if estimate_error:
-        error = _richardson(flow, section, grid, radius, density, viscosity, flow_rate, discretisation, branch)
-    return _replace(flow, solver=info, error=error)
+    return _replace(flow, solver=info, error=None)
 
 
 def _point_of(flow: SectionFlow, scale_v: float, g_scale: float, length: float) -> Point:

@@ -29,6 +29,9 @@ PAD = 0.03
 """Fraction of the width and height by which the grid overhangs the walls, so that every mesh
 node on a curved wall falls inside a grid cell."""
 
+LC_INTEGRATION_PRECISION = 1e-6
+"""Relative precision of gmsh's integral of 1 / h along each curve (``install_size_field``)."""
+
 TETS_PER_SIZE_CUBED = 5.0
 """Tetrahedra gmsh makes per h^3 of volume at target size h (measured here on HXT meshes)."""
 
@@ -128,6 +131,10 @@ def install_size_field(grid: SizeGrid, model_unit: float) -> int:
     f.setAsBackgroundMesh(field)
     for opt in ("Mesh.MeshSizeExtendFromBoundary", "Mesh.MeshSizeFromPoints", "Mesh.MeshSizeFromCurvature"):
         gmsh.option.setNumber(opt, 0)
+    # gmsh places the nodes of each curve by integrating 1 / h along it to this relative
+    # precision (default 1e-9). On the bench spiral the 1D step took 3.1 s at 1e-9 and 0.8 s at
+    # 1e-6 for 450 k wall triangles; 1e-6 moves a node by a millionth of the curve's count.
+    gmsh.option.setNumber("Mesh.LcIntegrationPrecision", LC_INTEGRATION_PRECISION)
     gmsh.option.setNumber("Mesh.MeshSizeMin", float(grid.sizes.min() / model_unit) * 0.5)
     gmsh.option.setNumber("Mesh.MeshSizeMax", float(grid.sizes.max() / model_unit))
     return field

@@ -99,17 +99,19 @@ def _on_end(com: np.ndarray, normal: np.ndarray, frame: EndFrame, half_extent: f
     )
 
 
-def label_boundary(design: Design, volume: int | list[int], sections: list[list[int]] | None = None) -> dict[str, list[int]]:
+def label_boundary(design: Design, volume: int | list[int], sections: list[list[int]] | None = None,
+                   unnamed: list[int] | None = None) -> dict[str, list[int]]:
     """Assign every boundary surface of the fluid to one named group and add the physical groups.
 
     ``volume`` is the fluid volume, or its pieces when internal ``sections`` (surface tags of
-    section_1, section_2, ...) split it; those faces are internal and skip classification.
+    section_1, section_2, ...) or ``unnamed`` cuts split it; those faces are internal and skip
+    classification, and the unnamed ones join no group.
     Group tags: inlet(s), outlet(s), wall, section_1..k, fluid. Returns name -> tags (and
     ``fluid`` -> the volumes). Raises if a named end is missing.
     """
     volumes = [volume] if isinstance(volume, int) else list(volume)
     sections = sections or []
-    internal = {s for faces in sections for s in faces}
+    internal = {s for faces in sections for s in faces} | set(unnamed or ())
     line = centerline_of(design)
     shape = section_shape_of(design)
     start, end = end_frames(line)

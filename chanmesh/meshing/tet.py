@@ -15,7 +15,7 @@ from chanmesh.design.model import Design
 from chanmesh.gmshlayer.background import install_size_field, size_grid
 from chanmesh.sizing import tet_grading
 from chanmesh.gmshlayer.labels import label_boundary, split_ends
-from chanmesh.gmshlayer.sections import embed_sections
+from chanmesh.gmshlayer.sections import embed_sections, surface_splits
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
 from chanmesh.meshing.model import Block, ChannelMesh, Group
@@ -37,6 +37,10 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
     order = np.argsort(node_tags)
     node_tags = node_tags[order]
     points = coords.reshape(-1, 3)[order] * model_unit
+    # node tag -> row of ``points`` by one gather (gmsh numbers nodes 1..n; a table of the
+    # largest tag's size), instead of a binary search per corner
+    row_of = np.full(int(node_tags[-1]) + 1 if len(node_tags) else 1, -1, np.int64)
+    row_of[node_tags] = np.arange(len(node_tags))
     groups: list[Group] = []
     blocks: dict[tuple[int, str], list[tuple[np.ndarray, int]]] = {}
     for dim, tag in gmsh.model.getPhysicalGroups():
@@ -47,7 +51,7 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
             for t, c in zip(types, conn):
                 kind = GMSH_TYPES[int(t)]
                 k = {"tetra": 4, "triangle": 3, "hexahedron": 8, "quad": 4, "wedge": 6}[kind]
-                idx = np.searchsorted(node_tags, c).reshape(-1, k)
+                idx = row_of[c].reshape(-1, k)
                 blocks.setdefault((dim, kind), []).append((idx, tag))
     vols, facs = [], []
     for (dim, kind), parts in sorted(blocks.items()):
@@ -55,7 +59,10 @@ def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
         tags = np.concatenate([np.full(len(p), t) for p, t in parts])
         (vols if dim == 3 else facs).append(Block(kind, cells, tags))
     # keep only nodes used by some cell, numbered in order
-    used = np.unique(np.concatenate([b.cells.ravel() for b in vols + facs]))
+    mask = np.zeros(len(points), bool)
+    for b in vols + facs:
+        mask[b.cells.ravel()] = True
+    used = np.flatnonzero(mask)  # ascending, as np.unique gave, without its sort of every corner
     remap = np.full(len(points), -1, np.int64)
     remap[used] = np.arange(len(used))
     for b in vols + facs:
@@ -73,8 +80,9 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
         say("geometry")
         volume = build_solid(design)
         volume = split_ends(design, volume)
-        pieces, sections = embed_sections(design, volume)
-        label_boundary(design, pieces, sections)
+        splits = surface_splits(design, grading.h_wall, grading.h_core_min)
+        pieces, sections, cuts = embed_sections(design, volume, splits)
+        label_boundary(design, pieces, sections, unnamed=cuts)
         say("meshing")
         install_size_field(grid, MODEL_UNIT)
         gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay surfaces
@@ -90,6 +98,7 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
             "core_cell": grading.h_core_min,
             "growth_ratio": grading.ratio,
             "estimated_cells": estimate,
+            "surface_pieces": len(splits) + 1,
             "tets_with_two_wall_faces": count_multi_wall_tets(mesh),
         }
     )
