@@ -181,3 +181,20 @@ def test_histograms_sharing_one_figure_are_drawn_as_alone():
         assert np.array_equal(np.asarray(shared), alone)
     assert len({bytes(p) for p in together}) == 3  # three different pictures, not one redrawn
     assert histogram_pngs([]) == []
+
+
+@pytest.mark.parametrize("width_um, height_um, stacked", [(240, 60, True), (120, 100, False)])
+def test_wide_sections_are_drawn_one_above_the_other_across_the_picture(width_um, height_um, stacked):
+    # a 4:1 section side by side came out about 100 pixels high; stacked, each panel spans most of
+    # the picture's width, so the filled section (Blues, blue well above red) covers far more rows
+    from chanmesh.flow import solve_section_flow
+    from chanmesh.report.section_view import solutions_png
+
+    d = loads_design(f'name = "s"\nunit = "um"\n[section]\nwidth = {width_um}\nheight = {height_um}\n'
+                     '[path]\nkind = "arc"\nradius = 1000\nangle = 90\n')
+    flow = solve_section_flow(d.section, 1e-3, 997.0, 0.89e-3, 2e-9, estimate_error=False)
+    png = solutions_png(d, flow, flow, 1e-3, {"secondary_max": 0.0})
+    rgb = np.asarray(Image.open(io.BytesIO(png)).convert("RGB")).astype(int)
+    blue = (rgb[..., 2] - rgb[..., 0] > 40).sum(axis=1) > 0.3 * rgb.shape[1]  # rows mostly filled section
+    wide_rows = 2 * 0.6 * (rgb.shape[1] - 220) * height_um / width_um  # two panels at 60 % of the axes' width
+    assert (blue.sum() > wide_rows) == stacked

@@ -101,19 +101,56 @@ def _panel(ax: Any, flow: Any, levels: np.ndarray, title: str, arrows: int = 18)
     return filled
 
 
+STACK_ASPECT = 2.0
+"""Sections at least this many times wider than high are drawn one above the other, each across
+the picture's width: side by side, a 4:1 section came out about 100 pixels high."""
+
+
+def _stacked_axes(aspect: float, width: int) -> tuple[Any, list[Any]]:
+    """A figure ``width`` pixels wide with two axes one above the other, each as wide as the
+    picture allows and as high as the section's ``aspect`` (width / height) makes it."""
+    left, right, panel = 70, 150, width - 220  # pixels: z label, colour bar, the axes
+    panel_h = max(90, int(round(panel / aspect)))
+    title, xlabel, note = 34, 44, 44  # pixels above and below each axes, and the caption
+    height = note + 2 * (xlabel + panel_h + title)
+    fig = plt.figure(figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER)
+    axes = []
+    for row in range(2):  # top row first
+        bottom = note + (1 - row) * (xlabel + panel_h + title) + xlabel
+        axes.append(fig.add_axes([left / width, bottom / height, panel / width, panel_h / height],
+                                 sharex=axes[0] if axes else None, sharey=axes[0] if axes else None))
+    return fig, axes
+
+
 def solutions_png(design: Design, reference: Any, on_mesh: Any, radius: float | None, errors: dict[str, float],
                   width: int = 1200, height: int = 460) -> bytes:
-    """Converged section flow (left) and the same flow on the mesh's section grid (right):
-    streamwise speed filled, secondary (in-plane) velocity as arrows, one colour scale."""
+    """Converged section flow (left, or above for a section wider than ``STACK_ASPECT``) and the
+    same flow on the mesh's section grid (right, or below): streamwise speed filled, secondary
+    (in-plane) velocity as arrows, one colour scale."""
     top = max(float(reference.streamwise.max()), float(on_mesh.streamwise.max()))
     levels = np.linspace(0.0, top, 13)
-    fig, axes = plt.subplots(1, 2, figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER, sharey=True)
+    p = reference.points
+    aspect = float(np.ptp(p[:, 0]) / max(np.ptp(p[:, 1]), 1e-30))
+    stacked = aspect >= STACK_ASPECT
+    if stacked:
+        fig, axes = _stacked_axes(aspect, width)
+    else:
+        fig, axes = plt.subplots(1, 2, figsize=(width / 100, height / 100), dpi=100, facecolor=PAPER, sharey=True)
     _panel(axes[0], reference, levels,
            f"converged (P2-P1): secondary max {reference.secondary_max * 1e3:.3g} mm/s")
     filled = _panel(axes[1], on_mesh, levels,
                     f"on this mesh's section grid: {on_mesh.secondary_max * 1e3:.3g} mm/s ({errors['secondary_max']:+.1%})")
     axes[0].set_ylabel("z (µm)")
     left, right = wall_labels(radius)
+    if stacked:
+        axes[1].set_ylabel("z (µm)")
+        axes[0].tick_params(labelbottom=True)
+        lo, hi = axes[1].get_position().y0, axes[0].get_position().y1
+        cax = fig.add_axes([(width - 120) / width, lo, 14 / width, hi - lo])
+        fig.colorbar(filled, cax=cax, label="streamwise speed (m/s)")
+        fig.text(0.5, 12 / fig.bbox.height, f"looking downstream; left: {left}, right: {right}; arrows: secondary "
+                 "velocity, fill: streamwise speed (m/s)", ha="center", fontsize=9, color=INK)
+        return _png(fig)
     fig.text(0.5, 0.02, f"looking downstream; left: {left}, right: {right}; arrows: secondary velocity, "
              "fill: streamwise speed (m/s)", ha="center", fontsize=9, color=INK)
     fig.colorbar(filled, ax=axes, shrink=0.8, label="streamwise speed (m/s)")
