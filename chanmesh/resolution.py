@@ -316,6 +316,12 @@ TETRAHEDRA_NOTE = ("note: the figure's finite-volume factors come from hexahedra
 """Said under the figure for a tetrahedral mesh (measured in OpenFOAM, docs/resolution.md)."""
 
 
+def on_tetrahedra(record: dict[str, Any]) -> bool:
+    """Whether the figure ``record`` (the manifest's ``resolution``) was computed on the triangle
+    inlet face of a tetrahedral mesh, where ``TETRAHEDRA_NOTE`` applies."""
+    return record.get("mesh_grid", {}).get("cell_kind") == "triangle"
+
+
 def summary_lines(record: dict[str, Any]) -> list[str]:
     """The terminal summary: one line of figures, and a warning line above ``WARN_ABOVE``."""
     if "errors" not in record:
@@ -327,7 +333,7 @@ def summary_lines(record: dict[str, Any]) -> list[str]:
     figures = ", ".join(f"{k.replace('_', ' ')} {v:+.2%}" for k, v in e.items())
     lines = [f"resolution ({where}): {figures} against the converged section flow"
              + ("" if record["passes"] else " (a finite-volume solver would miss 5 % / 1 %: docs/resolution.md)")]
-    if record.get("mesh_grid", {}).get("cell_kind") == "triangle":
+    if on_tetrahedra(record):
         lines.append(TETRAHEDRA_NOTE)
     if record["warning"]:
         worst = max(e, key=lambda k: abs(e[k]))

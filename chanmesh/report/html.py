@@ -292,9 +292,9 @@ def _resolution_section(design: Design, mesh: ChannelMesh, manifest: dict[str, A
              + (f"De {de:.3g} at the tightest bend, R = {abs(record['radius_m']) * 1e3:.4g} mm" if de else "straight duct"))
     warn = ('<p class="caution">This mesh misses the developed section flow by more than 10 %: refine the core '
             "(cells_high, cells_across) or the wall-adjacent cell (first_cell).</p>") if record.get("warning") else ""
-    if record.get("mesh_grid", {}).get("cell_kind") == "triangle":
-        from chanmesh.resolution import TETRAHEDRA_NOTE
+    from chanmesh.resolution import TETRAHEDRA_NOTE, on_tetrahedra
 
+    if on_tetrahedra(record):
         note = TETRAHEDRA_NOTE.removeprefix("note: ")
         warn += f'<p class="caution">{html.escape(note[0].upper() + note[1:])}</p>'
     return "\n".join([

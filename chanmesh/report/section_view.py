@@ -109,7 +109,7 @@ the picture's width: side by side, a 4:1 section came out about 100 pixels high.
 def _stacked_axes(aspect: float, width: int) -> tuple[Any, list[Any]]:
     """A figure ``width`` pixels wide with two axes one above the other, each as wide as the
     picture allows and as high as the section's ``aspect`` (width / height) makes it."""
-    left, right, panel = 70, 150, width - 220  # pixels: z label, colour bar, the axes
+    left, panel = 70, width - 220  # pixels: z label, the axes (the colour bar takes the last 150)
     panel_h = max(90, int(round(panel / aspect)))
     title, xlabel, note = 34, 44, 44  # pixels above and below each axes, and the caption
     height = note + 2 * (xlabel + panel_h + title)
@@ -146,12 +146,10 @@ def solutions_png(design: Design, reference: Any, on_mesh: Any, radius: float | 
         axes[1].set_ylabel("z (µm)")
         axes[0].tick_params(labelbottom=True)
         lo, hi = axes[1].get_position().y0, axes[0].get_position().y1
-        cax = fig.add_axes([(width - 120) / width, lo, 14 / width, hi - lo])
-        fig.colorbar(filled, cax=cax, label="streamwise speed (m/s)")
-        fig.text(0.5, 12 / fig.bbox.height, f"looking downstream; left: {left}, right: {right}; arrows: secondary "
-                 "velocity, fill: streamwise speed (m/s)", ha="center", fontsize=9, color=INK)
-        return _png(fig)
-    fig.text(0.5, 0.02, f"looking downstream; left: {left}, right: {right}; arrows: secondary velocity, "
-             "fill: streamwise speed (m/s)", ha="center", fontsize=9, color=INK)
-    fig.colorbar(filled, ax=axes, shrink=0.8, label="streamwise speed (m/s)")
+        fig.colorbar(filled, cax=fig.add_axes([(width - 120) / width, lo, 14 / width, hi - lo]),
+                     label="streamwise speed (m/s)")
+    else:
+        fig.colorbar(filled, ax=axes, shrink=0.8, label="streamwise speed (m/s)")
+    fig.text(0.5, 12 / fig.bbox.height if stacked else 0.02, f"looking downstream; left: {left}, right: {right}; "
+             "arrows: secondary velocity, fill: streamwise speed (m/s)", ha="center", fontsize=9, color=INK)
     return _png(fig)
