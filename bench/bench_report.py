@@ -34,11 +34,12 @@ import argparse
 import inspect
 import json
 import os
-import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
+
+from _trees import child_json
 
 HERE = Path(__file__).resolve().parent
 
@@ -101,14 +102,10 @@ def _child(cells: float, mesh_repeats: int, repeats: int, profile: bool, picture
 
 
 def measure(root: Path, cells: float, args: argparse.Namespace) -> dict:
-    env = {**os.environ, "PYTHONPATH": str(root)}
-    cmd = [sys.executable, __file__, "--child", str(cells), "--mesh-repeats", str(args.mesh_repeats),
-           "--repeats", str(args.repeats)] + (["--profile"] if args.profile else []) \
+    child = ["--child", str(cells), "--mesh-repeats", str(args.mesh_repeats), "--repeats", str(args.repeats)] \
+        + (["--profile"] if args.profile else []) \
         + (["--pictures", str(Path(args.pictures).resolve() / root.name)] if args.pictures else [])
-    done = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=str(root))
-    if done.returncode:
-        raise SystemExit(f"child failed for {root}:\n{done.stderr}")
-    return json.loads(done.stdout.strip().splitlines()[-1])
+    return child_json(__file__, root, child)
 
 
 def sizes_table(args: argparse.Namespace) -> None:

@@ -28,11 +28,12 @@ import argparse
 import json
 import os
 import resource
-import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
+
+from _trees import child_json
 
 HERE = Path(__file__).resolve().parent
 
@@ -76,18 +77,10 @@ def _child(cells: float) -> dict:
     return {"t_build": t_build, "cpu": cpu, "stages": stages, "peak": peak, "base": base}
 
 
-def _run_child(root: Path, args: list[str]) -> dict:
-    env = {**os.environ, "PYTHONPATH": str(root)}
-    done = subprocess.run([sys.executable, __file__, *args], capture_output=True, text=True, env=env, cwd=str(root))
-    if done.returncode:
-        raise SystemExit(f"child failed for {root}:\n{done.stderr}")
-    return json.loads(done.stdout.strip().splitlines()[-1])
-
-
 def measure(root: Path, cells: float, repeats: int) -> dict:
     """Mesh generation time and the build, each in a fresh process, same tree."""
-    out = _run_child(root, ["--child-mesh", str(cells), "--mesh-repeats", str(repeats)])
-    out.update(_run_child(root, ["--child", str(cells)]))
+    out = child_json(__file__, root, ["--child-mesh", str(cells), "--mesh-repeats", str(repeats)])
+    out.update(child_json(__file__, root, ["--child", str(cells)]))
     return out
 
 

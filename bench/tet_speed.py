@@ -12,7 +12,7 @@ Each run is in-process (not the child process of meshing/tet_process.py) so that
 can be timed; gmsh's own ``generate(2)`` then ``generate(3)`` split the surface from the volume.
 
 ``--build`` times the whole ``build`` (default formats and the report, as the command line
-runs it) of ``BUILD_SPIRAL``, about a million tetrahedra with every size given explicitly, in a
+runs it) of the bench spiral meshed by ``BUILD_SPIRAL_MESH``, about a million tetrahedra with every size given explicitly, in a
 fresh process per source tree (``--root``, repeatable, e.g. an export of an older commit), so
 before/after ratios come from one run on one machine load (issue 14: at least 3x faster).
 """
@@ -70,19 +70,12 @@ def _child_build() -> dict:
 
 def whole_builds(roots: list[Path]) -> None:
     """``--build``: each tree's whole build in a child process, then the ratios to the first."""
-    import json
-    import os
-    import subprocess
+    from _trees import child_json
 
     results = []
     print(f"{'tree':<28} {'tetrahedra':>10} {'build s':>8} {'peak MB':>8}  stages (s)")
     for root in roots:
-        env = {**os.environ, "PYTHONPATH": str(root.resolve())}
-        done = subprocess.run([sys.executable, __file__, "--child-build"], capture_output=True, text=True, env=env,
-                              cwd=str(root.resolve()))
-        if done.returncode:
-            raise SystemExit(f"child failed for {root}:\n{done.stderr}")
-        r = json.loads(done.stdout.strip().splitlines()[-1])
+        r = child_json(__file__, root, ["--child-build"])
         results.append(r)
         shown = ", ".join(f"{k} {v:.1f}" for k, v in r["stages"].items() if v >= 0.05)
         print(f"{str(root)[-28:]:<28} {r['tets']:>10,} {r['t_build']:>8.1f} {r['peak'] / 2**20:>8,.0f}  {shown}",
