@@ -53,9 +53,10 @@ def grid_points(design: Design, plan: HexPlan) -> np.ndarray:
     return pts
 
 
-def _boundary_faces(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
+def boundary_quads(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
     """Boundary quads (outward node order, full-grid node numbers) sorted into inlet, outlet
-    pieces and wall."""
+    pieces and wall. Any grid: the mesher's, or a coarser one on a subset of its node lines
+    (the report's drawing surface, ``report/grid_surface.py``)."""
     nj = grid.shape[2]
     col = grid.column_mask()
     corner0, offsets = grid.corner0_grid(), grid.node_offsets()
@@ -112,7 +113,7 @@ def mesh_hex(design: Design, scale: float = 1.0, progress: Progress | None = Non
     points = grid_points(design, plan).reshape(-1, 3)
     say("cells")
     cells = grid_cells(grid)
-    faces = _boundary_faces(grid)
+    faces = boundary_quads(grid)
     pieces = _split_end(plan, np.concatenate(faces["inlet"]), design.inlets.names, plan.inlet_nodes)
     pieces += _split_end(plan, np.concatenate(faces["outlet"]), design.outlets.names, plan.outlet_nodes)
     pieces.append(("wall", np.concatenate(faces["wall"])))

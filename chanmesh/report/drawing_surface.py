@@ -113,9 +113,23 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0, names: li
                     i, cells = i + len(cells), cells[keep[i:i + len(cells)]]
                 if len(cells):
                     blocks.append((gi, cells))
-        total = sum(len(c) for _, c in blocks)
-        nodes, blocks = _numbered(len(mesh.points), blocks)
-        points = mesh.points[nodes]  # the surface's own nodes, mesh unit
+        return blocks_surface(mesh.points, names, blocks, limit, scale)
+    return _drawn(points, names, blocks, total, limit, scale)
+
+
+def blocks_surface(points: np.ndarray, names: list[str], blocks: list[tuple[int, np.ndarray]], limit: int,
+                   scale: float = 1.0) -> DrawingSurface:
+    """The facets ``blocks`` ((index into ``names``, (m, k) cells into ``points``) pairs) to
+    draw, at most ``limit`` of them, merged as ``drawing_surface`` merges: the same surface
+    for facets chosen some other way (a close-up read off a swept mesh's grid)."""
+    total = sum(len(c) for _, c in blocks)
+    nodes, blocks = _numbered(len(points), blocks)
+    return _drawn(points[nodes], names, blocks, total, limit, scale)  # the surface's own nodes
+
+
+def _drawn(points: np.ndarray, names: list[str], blocks: list[tuple[int, np.ndarray]], total: int, limit: int,
+           scale: float) -> DrawingSurface:
+    """``blocks`` over the surface's own ``points`` (mesh unit), merged if more than ``limit``."""
     if total <= limit:
         return DrawingSurface(points * scale, _by_name(names, blocks), total, 0.0)
     # each group merged on its own, to its share of the limit but never below a few hundred
@@ -126,7 +140,7 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0, names: li
     for gi in range(len(names)):
         mine = [c for g, c in blocks if g == gi]
         count = sum(len(c) for c in mine)
-        share = max(int(limit * count / total), min(count, FEW))
+        share = group_share(count, total, limit)
         if count <= share:
             out += [(gi, c) for c in mine]
             continue
@@ -135,6 +149,12 @@ def drawing_surface(mesh: ChannelMesh, limit: int, scale: float = 1.0, names: li
         cube = max(cube, side)
     used, out = _numbered(len(points), out)  # only the nodes the merged polygons use
     return DrawingSurface(points[used] * scale, _by_name(names, out), total, cube * scale)
+
+
+def group_share(count: int, total: int, limit: int) -> int:
+    """Facets a group of ``count`` may keep when a surface of ``total`` is drawn with at most
+    ``limit``: its share of the limit, but never below ``FEW`` (all it has, if fewer)."""
+    return max(int(limit * count / total), min(count, FEW))
 
 
 def _numbered(n_points: int, blocks: list[tuple[int, np.ndarray]]) -> tuple[np.ndarray, list[tuple[int, np.ndarray]]]:

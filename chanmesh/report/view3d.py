@@ -6,9 +6,11 @@ plan on the side where the inlet and outlet faces can both be seen. In a spiral 
 serpentine one port still faces away or is a few pixels wide, so each port also gets a
 close-up of its end of the channel, seen from outside, with every cell edge drawn.
 
-Cell edges are drawn at every size: a large mesh's surface is drawn merged
-(``drawing_surface``: vertex clustering, at most ``DRAW_LIMIT`` facets), which keeps the
-picture readable and its cost bounded; the subtitle says when it is.
+Cell edges are drawn at every size: a large mesh's surface is drawn merged, which keeps the
+picture readable and its cost bounded; the subtitle says when it is. A swept hexahedral mesh's
+surface is read off its grid (``grid_surface``: the grid's boundary on every few node lines,
+about ``GRID_DRAW_LIMIT`` quads; its close-ups from the few cell layers at each port), any
+other's merged by vertex clustering (``drawing_surface``: at most ``DRAW_LIMIT`` facets).
 
 Two engines draw the main view:
 
@@ -24,6 +26,7 @@ The close-ups are always drawn with matplotlib.
 from __future__ import annotations
 
 import os
+from collections.abc import Mapping
 
 import matplotlib
 
@@ -38,8 +41,10 @@ from chanmesh.design.model import Design  # noqa: E402
 from chanmesh.geometry.centerline import centerline_of  # noqa: E402
 from chanmesh.meshing.model import ChannelMesh  # noqa: E402
 from chanmesh.report.drawing_surface import (  # noqa: E402
-    DrawingSurface, NumberedSurface, SurfaceFacets, drawing_surface, facet_normals, numbered_surface, surface_facets,
-    surface_groups)
+    DrawingSurface, NumberedSurface, SurfaceFacets, blocks_surface, drawing_surface, facet_normals, numbered_surface,
+    surface_facets, surface_groups)
+from chanmesh.report.grid_surface import (  # noqa: E402
+    GridSurface, closeup_candidates, decimated_surface, grid_surface, plane_quads)
 from chanmesh.report.palette import INK, PAPER, group_colours  # noqa: E402
 from chanmesh.report.png import figure_png  # noqa: E402
 from chanmesh.terms import count_phrase  # noqa: E402
@@ -49,6 +54,11 @@ WALL_EDGE = "#7D8A94"
 
 DRAW_LIMIT = 20_000
 """Facets drawn in the main view; a larger surface is drawn merged (``drawing_surface``)."""
+GRID_DRAW_LIMIT = 10_000
+"""Facets drawn in the main view of a swept mesh, read off its grid (``grid_surface``): true
+quads of a coarser grid, where the merge's facets are partly triangles, so half as many give
+about the merged cells' size (0.07 mm on the bench spiral's walls; the merge's were
+0.05-0.09 mm at 0.1-4 M hexahedra) and fewer polygons to draw."""
 CLOSEUP_LIMIT = 6_000
 """Facets drawn in one port close-up; more are merged the same way."""
 MAX_CLOSEUPS = 6
@@ -88,8 +98,9 @@ def _camera_basis(design: Design) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return _basis(view_direction(design))
 
 
-def port_names(mesh: ChannelMesh, facets: SurfaceFacets | None = None) -> list[str]:
-    """The inlet and outlet groups, inlets first (``facets``: ``surface_facets(mesh)`` if at hand)."""
+def port_names(mesh: ChannelMesh, facets: Mapping[str, object] | None = None) -> list[str]:
+    """The inlet and outlet groups, inlets first (``facets``: ``surface_facets(mesh)`` or another
+    mapping keyed by the surface groups, if at hand)."""
     names = surface_groups(mesh) if facets is None else list(facets)
     return [n for n in names if n.startswith("inlet")] + [n for n in names if n.startswith("outlet")]
 
@@ -210,31 +221,66 @@ def facet_centres(mesh: ChannelMesh, facets: SurfaceFacets | None = None,
 
 
 def closeup_surface(mesh: ChannelMesh, design: Design, port: str, centres: np.ndarray | None = None,
-                    facets: SurfaceFacets | None = None) -> tuple[DrawingSurface, np.ndarray]:
+                    facets: SurfaceFacets | None = None, grid: GridSurface | None = None
+                    ) -> tuple[DrawingSurface, np.ndarray]:
     """The facets near one port (within 1.6 section sizes of its centre, mm) and the view
     direction that shows the port from outside, 40 degrees to its side and 30 above.
-    ``centres``: ``facet_centres(mesh)`` and ``facets``: ``surface_facets(mesh)``, when several
-    close-ups share them."""
-    facets = surface_facets(mesh) if facets is None else facets
+    A swept mesh's close-up is read off its grid (``grid``: ``grid_surface(mesh)``, looked up
+    when neither ``centres`` nor ``facets`` is given), any other's from its facets
+    (``centres``: ``facet_centres(mesh)`` and ``facets``: ``surface_facets(mesh)``, when
+    several close-ups share them); both choose the same facets."""
+    if grid is None and centres is None and facets is None:
+        grid = grid_surface(mesh)
     p = mesh.points
-    port_nodes = np.unique(np.concatenate([c.ravel() for c in facets[port]]))
+    port_cells = [plane_quads(grid, port)] if grid is not None else (facets or surface_facets(mesh))[port]
+    port_nodes = np.unique(np.concatenate([c.ravel() for c in port_cells]))
     centre = p[port_nodes].mean(axis=0) * 1e3
-    normal = sum((facet_normals(p, c).sum(axis=0) for c in facets[port]), np.zeros(3))
+    normal = sum((facet_normals(p, c).sum(axis=0) for c in port_cells), np.zeros(3))
     line = centerline_of(design)
     guess = -line.tangents(np.array([0.0]))[0] if port.startswith("inlet") else line.tangents(np.array([line.length]))[0]
     outward = normal if normal @ guess >= 0 else -normal
     outward = outward / max(float(np.linalg.norm(outward)), 1e-300)
     size = max(design.section.width, design.section.max_height) * 1e3
     reach = 1.6 * size
-    blocks = [c for cells in facets.values() for c in cells]
-    centres = facet_centres(mesh, facets) if centres is None else centres
-    d = centres - centre
-    near = d[:, 0] * d[:, 0] + d[:, 1] * d[:, 1] + d[:, 2] * d[:, 2] <= reach * reach
-    keep = near & _attached(blocks, near, port_nodes, len(p))
-    surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep, facets=facets)
+    if grid is not None:
+        surface = _grid_closeup(grid, p, port, port_nodes, centre, reach)
+    else:
+        facets = surface_facets(mesh) if facets is None else facets
+        blocks = [c for cells in facets.values() for c in cells]
+        centres = facet_centres(mesh, facets) if centres is None else centres
+        near = _within(centres, centre, reach)
+        keep = near & _attached(blocks, near, port_nodes, len(p))
+        surface = drawing_surface(mesh, CLOSEUP_LIMIT, 1e3, keep=keep, facets=facets)
     side = np.cross([0.0, 0.0, 1.0], outward)
     view = outward + 0.84 * side + 0.7 * np.array([0.0, 0.0, 1.0])
     return surface, view / np.linalg.norm(view)
+
+
+def _within(centres: np.ndarray, centre: np.ndarray, reach: float) -> np.ndarray:
+    d = centres - centre
+    return d[:, 0] * d[:, 0] + d[:, 1] * d[:, 1] + d[:, 2] * d[:, 2] <= reach * reach
+
+
+def _grid_closeup(grid: GridSurface, p: np.ndarray, port: str, port_nodes: np.ndarray, centre: np.ndarray,
+                  reach: float) -> DrawingSurface:
+    """The close-up's facets from the cell layers at the port's end of the grid: as many
+    layers as lie within twice the reach along the channel, doubled while a facet of the far
+    layer still lies near (a chain of near facets could go on beyond it)."""
+    from_port = grid.along if grid.planes[port].k == 0 else grid.along[-1] - grid.along[::-1]
+    layers = int(np.searchsorted(from_port, 2e-3 * reach)) + 1
+    while True:
+        blocks, far = closeup_candidates(grid, port, layers)
+        cells = [c for _, c in blocks]
+        near = _within(np.concatenate([sum(p[c[:, j]] for j in range(4)) * (1e3 / 4) for c in cells]), centre, reach)
+        if not (near & far).any() or layers >= grid.grid.shape[0]:
+            break
+        layers *= 2
+    keep = near & _attached(cells, near, port_nodes, len(p))
+    kept, offset = [], 0
+    for gi, c in blocks:
+        kept.append((gi, c[keep[offset:offset + len(c)]]))
+        offset += len(c)
+    return blocks_surface(p, list(grid.counts), [b for b in kept if len(b[1])], CLOSEUP_LIMIT, 1e3)
 
 
 def _attached(blocks: list[np.ndarray], near: np.ndarray, seeds: np.ndarray, n_points: int) -> np.ndarray:
@@ -278,10 +324,18 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
     close-up of each port below it, a title and a legend."""
     if engine not in ENGINES:
         raise ValueError(f"engine = {engine!r}, but one of {ENGINES} is expected")
-    facets = surface_facets(mesh)  # fetched and numbered once for the main view and every close-up
-    numbered = numbered_surface(mesh, facets)
-    ports = port_names(mesh, facets)[:MAX_CLOSEUPS]
-    surface = drawing_surface(mesh, DRAW_LIMIT, 1e3, facets=facets, numbered=numbered)
+    grid = grid_surface(mesh)
+    if grid is not None:  # a swept mesh: the surface read off its grid, no pass over every facet
+        facets, numbered = None, None
+        ports = port_names(mesh, grid.counts)[:MAX_CLOSEUPS]
+        surface = (decimated_surface(grid, mesh.points, GRID_DRAW_LIMIT, 1e3)
+                   if sum(grid.counts.values()) > DRAW_LIMIT
+                   else drawing_surface(mesh, DRAW_LIMIT, 1e3))
+    else:
+        facets = surface_facets(mesh)  # fetched and numbered once for the main view and every close-up
+        numbered = numbered_surface(mesh, facets)
+        ports = port_names(mesh, facets)[:MAX_CLOSEUPS]
+        surface = drawing_surface(mesh, DRAW_LIMIT, 1e3, facets=facets, numbered=numbered)
     colours = group_colours(list(surface.polygons))
     main_box = (0.01, 0.31, 0.98, 0.60) if ports else (0.01, 0.01, 0.98, 0.86)
     image = None
@@ -295,7 +349,7 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
             ax.set_axis_off()
         else:
             draw_surface_mpl(ax, surface, view_direction(design), colours)
-        _draw_closeups(fig, mesh, design, ports, colours, facets, numbered)
+        _draw_closeups(fig, mesh, design, ports, colours, facets, numbered, grid)
         merged = (f"  ·  surface drawn merged, {surface.facets:,} of {surface.facets_in_mesh:,} facets"
                   f" (close-ups: every cell)" if surface.merged else "")
         fig.text(0.02, 1 - 14 / height, f"{design.name}  ·  mesh in true proportions", ha="left", va="top",
@@ -312,16 +366,19 @@ def mesh_picture(mesh: ChannelMesh, design: Design, width: int = 1200, height: i
 
 
 def _draw_closeups(fig, mesh: ChannelMesh, design: Design, ports: list[str], colours: dict[str, str],  # type: ignore[no-untyped-def]
-                   facets: SurfaceFacets, numbered: NumberedSurface | None = None) -> None:
-    """One framed close-up per port along the bottom of the figure, titled in its colour."""
+                   facets: SurfaceFacets | None, numbered: NumberedSurface | None = None,
+                   grid: GridSurface | None = None) -> None:
+    """One framed close-up per port along the bottom of the figure, titled in its colour
+    (read off ``grid`` when the mesh has one, else from ``facets``)."""
     if not ports:
         return
     slot = 0.98 / max(len(ports), 4)
     left = 0.01 + 0.5 * (0.98 - slot * len(ports))
-    centres = facet_centres(mesh, facets, numbered)
+    centres = facet_centres(mesh, facets, numbered) if grid is None else None
     for i, port in enumerate(ports):
         ax = fig.add_axes((left + i * slot + 0.006, 0.015, slot - 0.012, 0.255))
-        surface, view = closeup_surface(mesh, design, port, centres, facets)
+        surface, view = (closeup_surface(mesh, design, port, grid=grid) if grid is not None
+                         else closeup_surface(mesh, design, port, centres, facets))
         draw_surface_mpl(ax, surface, view, colours, linewidth=0.25)
         ax.set_axis_on()
         ax.set_xticks([])
