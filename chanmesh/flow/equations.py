@@ -76,6 +76,25 @@ def _scatter(rows: list, cols: list, vals: list, local: np.ndarray, rdofs: np.nd
     vals.append(local.ravel())
 
 
+def _viscous(t: Tables, kappa: float) -> tuple[np.ndarray, np.ndarray | float]:
+    """(e, i, j) int (r/R) grad phi_i . grad phi_j, and int kappa^2 (R/r) phi_i phi_j (0.0 when straight)."""
+    rw = 1.0 + kappa * t.x
+    stiff = np.einsum("iceq,jceq,eq->eij", t.dphi, t.dphi, t.dx * rw)
+    return stiff, (_mass(t, kappa * kappa / rw) if kappa else 0.0)
+
+
+def streamwise_at_rest(t: Tables, kappa: float) -> csr_matrix:
+    """The streamwise block (w, w) of the Jacobian at rest, (nv, nv): there every other block in
+    w's rows and columns vanishes, so the first Newton step from rest (the Stokes flow, pure
+    streamwise) is one solve of this block instead of one of the whole Jacobian."""
+    stiff, curv = _viscous(t, kappa)
+    rows: list = []
+    cols: list = []
+    vals: list = []
+    _scatter(rows, cols, vals, np.asarray(stiff + curv), t.vdofs, t.vdofs, 0, 0)
+    return coo_matrix((vals[0], (rows[0], cols[0])), shape=(t.nv, t.nv)).tocsr()
+
+
 def jacobian(t: Tables, kappa: float, state: np.ndarray) -> csr_matrix:
     """Newton Jacobian of the r-weighted equations (Re = 1: viscous velocity scale) about
     ``state`` = [u_n, w, u_z (nv each), p (np)]; rows/columns in the same order."""
@@ -85,8 +104,7 @@ def jacobian(t: Tables, kappa: float, state: np.ndarray) -> csr_matrix:
     uz, gz = t.at(state[2 * nv:3 * nv])
     rw = 1.0 + kappa * t.x
     dxw = t.dx * rw
-    stiff = np.einsum("iceq,jceq,eq->eij", t.dphi, t.dphi, dxw)
-    curv = _mass(t, kappa * kappa / rw) if kappa else 0.0
+    stiff, curv = _viscous(t, kappa)
     adv = np.einsum("ieq,jceq,ceq->eij", t.phi, t.dphi, np.array([ur, uz]) * dxw)  # test i, (a.grad) phi_j
     diag = stiff + adv
     blocks = {
