@@ -17,6 +17,9 @@ of every corner), a trial cube only counts the facets it would keep, and the clu
 built once; normals by coordinate columns, each cluster's best node by a minimum over its run
 of the sorted keys, a small group's (node, class) tables over its own nodes. About 0.21 s for
 the 320,000 facets of a 4 M-hexahedron spiral, 0.37 s before those three (bench/bench_report.py).
+A hexahedral mesh that carries its grid is drawn from the grid instead (``grid_surface``), at a
+cost independent of its size; this merge serves tetrahedral meshes and any mesh that fails the
+grid's checks.
 """
 
 from __future__ import annotations
