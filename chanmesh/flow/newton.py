@@ -137,7 +137,7 @@ def newton(d: Discrete, kappa: float, q: float, x: np.ndarray, g: float, load: n
         else:
             res = eq.residual(d.tables, kappa, x, g)
             if not chord:
-                mat = d.restrict_matrix(eq.jacobian(d.tables, kappa, x))
+                mat = d.jacobian(kappa, x)
                 counts.factorisations += 1
                 try:
                     lu, y2 = factorise(mat, m, symmetric=d.kind == "grid")
