@@ -17,7 +17,6 @@ import numpy as np
 
 from chanmesh.errors import ChanmeshError
 from chanmesh.flow import equations as eq
-from chanmesh.flow.branch import FourCellNotFound, four_cell
 from chanmesh.flow.discrete import Discrete, discretise, mirror_basis, solve_free
 from chanmesh.flow.newton import Counts, FlowNotConverged, Point, by_jumps, continuation
 from chanmesh.flow.grid import SectionGrid, default_grid, mirrored, shape_of
@@ -160,6 +159,8 @@ def _solve(shape: Any, radius: float | None, density: float, viscosity: float, f
     counts = Counts()
     extra: dict[str, Any] = {"branch": branch}
     if branch == "four-cell":
+        from chanmesh.flow.branch import FourCellNotFound, four_cell  # only here: numbers' solve does without
+
         d.reduced = mirror_basis(d)
         if start.q <= 0 or start.q >= q_target or (initial is not None and initial.solver.get("branch") != "four-cell"):
             start = continuation(d, kappa, FOUR_CELL_START * q_target, Point(np.zeros(d.size), 0.0, 0.0), counts,
@@ -289,6 +290,8 @@ ERROR_KEYS = ("secondary_max", "secondary_mean", "dpds", "max_streamwise")
 def _richardson(flow: SectionFlow, section: Any, grid: SectionGrid, radius: float | None, density: float,
                 viscosity: float, flow_rate: float, discretisation: str, branch: str = "primary") -> dict[str, Any] | None:
     """Relative error estimates |f_h - f_2h| / (2^p - 1) / |f_h| from a grid with half the cells."""
+    from chanmesh.flow.branch import FourCellNotFound
+
     if grid.shape is None:
         return {"method": "not estimated: the grid is not structured", "relative": None}
     nx, nz = grid.shape
