@@ -38,6 +38,7 @@ class Discrete:
     node_dofs: np.ndarray  # scalar-basis dofs whose values are the outputs (P2: vertices + edges)
     out_points: np.ndarray  # (k, 2) dimensionless locations of node_dofs
     out_triangles: np.ndarray  # (t, 3) triangles over out_points
+    wall_nodes: np.ndarray  # indices into out_points of the nodes on the walls
     reduced: csr_matrix | None = None
     """(size, k) basis of the solved-for subspace when smaller than ``free`` (``mirror_basis``)."""
     _plans: dict = field(default_factory=dict, repr=False)
@@ -146,8 +147,9 @@ def discretise(grid: SectionGrid, kind: str, length: float) -> Discrete:
     else:
         node_dofs = scalar.nodal_dofs[0]
         out_points, out_triangles = mesh.p.T, mesh.t.T
+    wall_nodes = np.flatnonzero(np.isin(node_dofs, wall))
     return Discrete(mesh, tables, scalar, length, kind, free, size, scalar_free, node_dofs,
-                    np.asarray(out_points), np.asarray(out_triangles))
+                    np.asarray(out_points), np.asarray(out_triangles), wall_nodes)
 
 
 def mirror_basis(d: Discrete) -> csr_matrix:

@@ -169,7 +169,7 @@ def _solve(shape: Any, radius: float | None, density: float, viscosity: float, f
         def cells(x: np.ndarray) -> int:
             nv = d.scalar.N
             psi = _stream_function(d, kappa, x[:nv], x[2 * nv:3 * nv])[d.node_dofs] * scale_v * length
-            return len(find_vortices(d.out_points * length, d.out_triangles, psi, _boundary_nodes(d),
+            return len(find_vortices(d.out_points * length, d.out_triangles, psi, d.wall_nodes,
                                      floor=PSI_FLOOR * u_mean * length))
 
         try:
@@ -238,7 +238,7 @@ def _assemble_result(d: Discrete, shape: Any, radius: float | None, density: flo
     mean_speed = mean_speed / area_nd * scale_v
     peak_u, peak_z = _peak(pts, stream, d.out_triangles)
     g_scale = viscosity * scale_v / L**2  # Pa/m per dimensionless G
-    boundary = _boundary_nodes(d)
+    boundary = d.wall_nodes
     u_mean = flow_rate / shape.area
     vortices = find_vortices(pts, d.out_triangles, psi, boundary, floor=PSI_FLOOR * u_mean * L)
     de = None if radius is None else dean_number(re, L, abs(radius))
@@ -276,12 +276,6 @@ def _peak(pts: np.ndarray, w: np.ndarray, triangles: np.ndarray) -> tuple[float,
         c = (pts[top] * weight[:, None]).sum(axis=0) / weight.sum()
         return float(c[0]), float(c[1])
     return refine_extremum(pts, w, k, neighbours(triangles, len(pts)))
-
-
-def _boundary_nodes(d: Discrete) -> np.ndarray:
-    """Indices into the output nodes that lie on the walls."""
-    wall = np.asarray(d.scalar.get_dofs().all())
-    return np.flatnonzero(np.isin(d.node_dofs, wall))
 
 
 ERROR_KEYS = ("secondary_max", "secondary_mean", "dpds", "max_streamwise")
