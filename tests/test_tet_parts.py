@@ -10,6 +10,7 @@ import pytest
 import pyvista as pv
 
 import chanmesh.meshing.tet_process as tp
+from chanmesh.geometry.reference import reference_of
 from chanmesh.gmshlayer import partition, sections
 from chanmesh.meshing import tet
 from chanmesh.meshing.measure import group_measures
@@ -17,16 +18,13 @@ from chanmesh.meshing.verify import check_boundary_tagging
 from tests.conftest import small_design
 
 
-def test_seams_share_the_pieces_evenly_and_every_part_embeds_its_own_cuts():
-    splits = [float(k) for k in range(1, 38)]  # 37 cuts, 38 pieces
-    assert partition.seam_indices(37, 2) == [18]
-    assert partition.part_splits(splits, 0, 2) == splits[:19]  # 19 pieces of its own and the seam
-    assert partition.part_splits(splits, 1, 2) == splits[18:]
-    assert partition.part_splits([5.0], 0, 2) == partition.part_splits([5.0], 1, 2) == [5.0]
+def test_seams_share_the_pieces_evenly():
+    assert partition.seam_indices(37, 2) == [18]  # 38 pieces: 19 before the seam, 19 after
+    assert partition.part_seams(37, 0, 2) == (None, 18) and partition.part_seams(37, 1, 2) == (18, None)
+    assert partition.part_seams(1, 0, 2) == (None, 0) and partition.part_seams(1, 1, 2) == (0, None)
     assert partition.parts_for([]) == 1 and partition.parts_for([5.0]) == partition.PARTS
-    three = [partition.part_splits(splits, p, 3) for p in range(3)]
-    assert [s[0] for s in three[1:]] == [s[-1] for s in three[:-1]]  # neighbours share their seam
-    assert sum(len(s) for s in three) == 37 + 2
+    assert partition.seam_indices(11, 3) == [3, 7]  # 12 pieces: 4, 4 and 4
+    assert partition.part_seams(11, 1, 3) == (3, 7)
 
 
 @pytest.fixture
@@ -90,3 +88,20 @@ def test_a_seam_that_does_not_match_falls_back_to_one_part(cut_spiral, monkeypat
     mesh = tet.mesh_tet(d, run_parts=moved_seam)
     assert mesh.info["mesh_parts"] == 1
     assert np.array_equal(mesh.points, one.points)
+
+
+@pytest.mark.parametrize("kind, extra", [
+    ("arc", {"path": {"angle": 270}, "outlets": {"split": [0.3, 0.7]}}),  # split outlet, seam on a bend
+    ("serpentine", {"mesh": {"sections": [0.3, 0.7]}}),  # named sections beside the seam
+    ("spiral", {"section": {"shape": "trapezoid", "width": 200, "height_inner": 40, "height_outer": 60}}),
+])
+def test_cut_designs_join_in_two_parts_with_their_exact_volume(kind, extra, monkeypatch):
+    monkeypatch.setattr(sections, "TRIANGLES_PER_PIECE", 1500)
+    mesh_kw = {"first_cell": 30, **extra.pop("mesh", {})}
+    d = small_design(kind, mesh=mesh_kw, **extra)
+    mesh = tet.mesh_tet(d)
+    assert mesh.info["mesh_parts"] == 2  # the seams matched: no fall-back to one part
+    check_boundary_tagging(mesh)
+    # the solid's volume in closed form (Pappus's centroid theorem, geometry/reference.py);
+    # tetrahedra with flat faces fall short of a curved wall by about (h/R)^2
+    assert group_measures(mesh)["fluid"] == pytest.approx(reference_of(d).volume, rel=2e-4)

@@ -18,7 +18,7 @@ from chanmesh.design.model import Design
 from chanmesh.gmshlayer.background import install_size_field, size_grid
 from chanmesh.sizing import tet_grading
 from chanmesh.gmshlayer.labels import label_boundary, split_ends
-from chanmesh.gmshlayer.partition import part_splits, parts_for, show_only_part
+from chanmesh.gmshlayer.partition import mesh_seams_then_part, own_pieces, part_seams, parts_for
 from chanmesh.gmshlayer.sections import embed_sections, surface_splits
 from chanmesh.gmshlayer.session import MODEL_UNIT, gmsh_session
 from chanmesh.gmshlayer.solids import build_solid
@@ -115,22 +115,26 @@ def mesh_tet_part(design: Design, scale: float, splits: Sequence[float], part: i
         say("geometry")
         volume = build_solid(design)
         volume = split_ends(design, volume)
-        own = part_splits(splits, part, parts)
-        pieces, sections, cuts = embed_sections(design, volume, own)
+        pieces, sections, cuts = embed_sections(design, volume, splits)
+        lo, hi = part_seams(len(splits), part, parts)
         groups = label_boundary(design, pieces, sections, unnamed=[f for faces in cuts for f in faces])
-        mine = show_only_part(pieces, cuts, groups[design.inlets.names[0]][0], part, parts)
+        seams = [f for k in (lo, hi) if k is not None for f in cuts[k]]
+        mine = own_pieces(pieces, seams, groups[design.inlets.names[0]][0], part) if parts > 1 else pieces
         say("meshing")
         install_size_field(grid, MODEL_UNIT)
         gmsh.option.setNumber("Mesh.Algorithm", 6)  # Frontal-Delaunay surfaces
         gmsh.option.setNumber("Mesh.Algorithm3D", 10)  # HXT: ~10x faster than Delaunay here
         gmsh.option.setNumber("Mesh.Optimize", 1)
-        gmsh.model.mesh.generate(3)
+        if parts > 1:
+            mesh_seams_then_part(seams, mine)
+        else:
+            gmsh.model.mesh.generate(3)
         mesh, tag_row = _extract(MODEL_UNIT)
-        seams = {}
-        if part > 0:
-            seams[part - 1] = _seam(cuts[0], tag_row)
-        if part < parts - 1:
-            seams[part] = _seam(cuts[-1], tag_row)
+        joins = {}
+        if lo is not None:
+            joins[part - 1] = _seam(cuts[lo], tag_row)
+        if hi is not None:
+            joins[part] = _seam(cuts[hi], tag_row)
     mesh.info.update(
         {
             "mesher": "tetrahedra (gmsh OpenCASCADE + HXT)",
@@ -141,7 +145,7 @@ def mesh_tet_part(design: Design, scale: float, splits: Sequence[float], part: i
             "estimated_cells": int(grid.estimate_tets()),  # build.check_estimate enforced mesh.max_cells before
         }
     )
-    return TetPart(mesh, seams, pieces=len(mine))
+    return TetPart(mesh, joins, pieces=len(mine))
 
 
 def _run_here(design: Design, scale: float, splits: Sequence[float], parts: int,
