@@ -174,9 +174,12 @@ def _run_children(design: Design, scale: float, splits: list[float], parts: int,
 def _message(receive: Any, child: Any, ready: bool) -> tuple | None:
     """The child's next message if its pipe is ``ready``, ("died",) if it ended without one,
     else None."""
-    if ready:
-        try:
-            return receive.recv()
-        except EOFError:
+    if not ready:
+        if child.is_alive():
+            return None
+        if not receive.poll(0):  # it may have sent its last message after the wait
             return ("died",)
-    return None if child.is_alive() else ("died",)
+    try:
+        return receive.recv()
+    except EOFError:
+        return ("died",)
