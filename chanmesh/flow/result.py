@@ -131,14 +131,18 @@ def _json_safe(obj: Any) -> Any:
 
 
 def neighbours(triangles: np.ndarray, n: int) -> list[np.ndarray]:
-    """Node adjacency (sharing an edge) of a triangle mesh with ``n`` nodes."""
+    """Node adjacency (sharing an edge) of a triangle mesh with ``n`` nodes: each node's
+    neighbours, ascending (one sort of all edges, no per-node work but the slicing)."""
     t = np.asarray(triangles)
     edges = np.concatenate([t[:, [0, 1]], t[:, [1, 2]], t[:, [2, 0]]])
     edges = np.concatenate([edges, edges[:, ::-1]])
-    order = np.lexsort((edges[:, 1], edges[:, 0]))
-    edges = edges[order]
-    starts = np.searchsorted(edges[:, 0], np.arange(n + 1))
-    return [np.unique(edges[starts[i]:starts[i + 1], 1]) for i in range(n)]
+    edges = edges[np.lexsort((edges[:, 1], edges[:, 0]))]
+    first = np.ones(len(edges), bool)
+    first[1:] = np.any(edges[1:] != edges[:-1], axis=1)  # an inner edge is listed by both its triangles
+    edges = edges[first]
+    starts = np.searchsorted(edges[:, 0], np.arange(n + 1)).tolist()
+    ends = edges[:, 1]
+    return [ends[a:b] for a, b in zip(starts[:-1], starts[1:])]
 
 
 def find_vortices(points: np.ndarray, triangles: np.ndarray, psi: np.ndarray, boundary: np.ndarray,
@@ -173,10 +177,13 @@ def find_vortices(points: np.ndarray, triangles: np.ndarray, psi: np.ndarray, bo
 
 def _peaks(f: np.ndarray, nb: list[np.ndarray], on_wall: np.ndarray) -> list[tuple[int, float]]:
     """Interior maxima of ``f`` with their persistence (0-dimensional, by union-find over the
-    superlevel sets); the walls form one component that never dies."""
-    parent = np.arange(len(f))
-    peak = np.arange(len(f))
-    seen = np.zeros(len(f), bool)
+    superlevel sets); the walls form one component that never dies. (Python lists inside: this
+    loop visits every node, and indexing numpy arrays one element at a time is slower.)"""
+    values = np.asarray(f, float).tolist()
+    near = [a.tolist() for a in nb]
+    wall_node = np.asarray(on_wall, bool).tolist()
+    parent = list(range(len(values)))  # each component is named by its root, its highest node
+    seen = [False] * len(values)
 
     def root(i: int) -> int:
         while parent[i] != i:
@@ -186,23 +193,26 @@ def _peaks(f: np.ndarray, nb: list[np.ndarray], on_wall: np.ndarray) -> list[tup
 
     wall = -1
     out: list[tuple[int, float]] = []
-    for i in np.argsort(-f, kind="stable"):
+    for i in np.argsort(-np.asarray(f, float), kind="stable").tolist():
         seen[i] = True
-        roots = {root(j) for j in nb[i] if seen[j]}
-        if on_wall[i]:
+        roots = {root(j) for j in near[i] if seen[j]}
+        if wall_node[i]:
             roots.add(root(wall) if wall >= 0 else i)
             wall = i if wall < 0 else wall
         if not roots:
             continue  # a new peak: its own component
+        if len(roots) == 1:  # joins one component (most nodes): nothing dies
+            parent[i] = roots.pop()
+            continue
         # the component with the highest peak (or the wall) survives; the others die here
         def height(r: int) -> float:
-            return np.inf if wall >= 0 and root(wall) == r else f[peak[r]]
+            return math.inf if wall >= 0 and root(wall) == r else values[r]
 
         keep = max(roots, key=height)
         for r in roots:
             if r != keep:
                 if not (wall >= 0 and root(wall) == r):
-                    out.append((int(peak[r]), float(f[peak[r]] - f[i])))
+                    out.append((r, values[r] - values[i]))
                 parent[r] = keep
         parent[i] = keep
     # peaks never merged (no wall reached, e.g. a grid without walls) are ignored
