@@ -311,7 +311,7 @@ _CHOSEN: dict[tuple, int] = {}
 
 
 TETRAHEDRA_NOTE = ("note: the figure's finite-volume factors come from hexahedra; on tetrahedra a finite-volume "
-                   "solver's secondary flow is far noisier (demo arc: +133 % on its maximum where the figure said -6 %); "
+                   "solver's secondary flow is far noisier (demo arc: +133 to +169 % on its maximum where the figure said -6 %); "
                    "use hexahedra for the Dean flow: docs/resolution.md")
 """Said under the figure for a tetrahedral mesh (measured in OpenFOAM, docs/resolution.md)."""
 

@@ -37,7 +37,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="the fluid is a biological sample (default: guessed from the fluid name)")
     parser.add_argument("--json", metavar="PATH", help="also write the numbers as JSON (SI units) to PATH")
     parser.add_argument("--section-flow", action=argparse.BooleanOptionalAction, default=True,
-                        help="solve the fully developed section flow at the first Dean station (about 1 s; default on)")
+                        help="solve the fully developed section flow at the first Dean station (a few tenths of a second; default on)")
 
 
 def _with_unit(key: str, text: str, table: dict[str, float], example: str) -> float:

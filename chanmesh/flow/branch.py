@@ -65,7 +65,7 @@ def path(d: Discrete, kappa: float, start: Point, counts: Counts,
         return Point(d.extend(v[:k]), float(v[k]), float(v[k + 1]))
 
     def factor(y: np.ndarray, tangent: np.ndarray):  # noqa: ANN202
-        jac = d.restrict_matrix(eq.jacobian(d.tables, kappa, unpack(y).x))
+        jac = d.jacobian(kappa, unpack(y).x)
         top = bmat([[jac, csr_matrix(-m[:, None]), csr_matrix((k, 1))]])
         mat = bmat([[top], [border], [csr_matrix((tangent / scale)[None, :])]])
         counts.factorisations += 1

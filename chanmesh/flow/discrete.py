@@ -9,13 +9,14 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 from scipy.sparse import coo_matrix, csc_matrix, csr_matrix
 from skfem import Basis, ElementTriMini, ElementTriP1, ElementTriP2, MeshTri
 
 from chanmesh.errors import ChanmeshError
+from chanmesh.flow import equations as eq
 from chanmesh.flow.equations import Tables
 from chanmesh.flow.grid import SectionGrid
 
@@ -37,8 +38,10 @@ class Discrete:
     node_dofs: np.ndarray  # scalar-basis dofs whose values are the outputs (P2: vertices + edges)
     out_points: np.ndarray  # (k, 2) dimensionless locations of node_dofs
     out_triangles: np.ndarray  # (t, 3) triangles over out_points
+    wall_nodes: np.ndarray  # indices into out_points of the nodes on the walls
     reduced: csr_matrix | None = None
     """(size, k) basis of the solved-for subspace when smaller than ``free`` (``mirror_basis``)."""
+    _plans: dict = field(default_factory=dict, repr=False)
 
     def restrict(self, v: np.ndarray) -> np.ndarray:
         """A residual-type vector on the unknowns solved for."""
@@ -57,6 +60,18 @@ class Discrete:
             return matrix[self.free][:, self.free].tocsc()
         return (self.reduced.T @ matrix @ self.reduced).tocsc()
 
+    def jacobian(self, kappa: float, state: np.ndarray) -> csc_matrix:
+        """The Newton Jacobian (``equations.jacobian``) on the unknowns solved for. Without a
+        reduced basis the entries are summed straight into the restricted matrix's slots, found
+        once per grid (``_ScatterPlan``), instead of building the whole matrix and cutting it."""
+        if self.reduced is not None:
+            return self.restrict_matrix(eq.jacobian(self.tables, kappa, state))
+        curved = bool(kappa)
+        plan = self._plans.get(curved)
+        if plan is None:
+            plan = self._plans[curved] = _ScatterPlan.of(*eq.jacobian_pattern(self.tables, curved), self.free, self.size)
+        return plan.matrix(eq.jacobian_values(self.tables, kappa, state))
+
     def extend(self, step: np.ndarray) -> np.ndarray:
         """A full-size state change from a step on the unknowns solved for."""
         out = np.zeros(self.size)
@@ -65,6 +80,37 @@ class Discrete:
         else:
             out += self.reduced @ step
         return out
+
+
+@dataclass(frozen=True)
+class _ScatterPlan:
+    """Where each entry of a fixed (rows, cols) pattern lands in the CSC matrix restricted to the
+    ``free`` rows and columns: ``slot`` per entry (``nnz`` for an entry dropped, on a fixed row or
+    column), and the CSC structure (sorted rows in each column)."""
+
+    slot: np.ndarray
+    indices: np.ndarray
+    indptr: np.ndarray
+    n: int
+
+    @classmethod
+    def of(cls, rows: np.ndarray, cols: np.ndarray, free: np.ndarray, size: int) -> "_ScatterPlan":
+        where = np.full(size, -1)
+        where[free] = np.arange(len(free))
+        r, c = where[rows], where[cols]
+        keep = (r >= 0) & (c >= 0)
+        n = len(free)
+        positions, slot_kept = np.unique(c[keep] * n + r[keep], return_inverse=True)
+        slot = np.full(len(rows), len(positions))
+        slot[keep] = slot_kept
+        indptr = np.searchsorted(positions // n, np.arange(n + 1))
+        return cls(slot, positions % n, indptr, n)
+
+    def matrix(self, values: np.ndarray) -> csc_matrix:
+        """The restricted matrix of ``values`` (one per pattern entry; repeated slots add up)."""
+        nnz = len(self.indices)
+        data = np.bincount(self.slot, weights=values, minlength=nnz + 1)[:nnz]
+        return csc_matrix((data, self.indices, self.indptr), shape=(self.n, self.n))
 
 
 def discretise(grid: SectionGrid, kind: str, length: float) -> Discrete:
@@ -101,8 +147,9 @@ def discretise(grid: SectionGrid, kind: str, length: float) -> Discrete:
     else:
         node_dofs = scalar.nodal_dofs[0]
         out_points, out_triangles = mesh.p.T, mesh.t.T
+    wall_nodes = np.flatnonzero(np.isin(node_dofs, wall))
     return Discrete(mesh, tables, scalar, length, kind, free, size, scalar_free, node_dofs,
-                    np.asarray(out_points), np.asarray(out_triangles))
+                    np.asarray(out_points), np.asarray(out_triangles), wall_nodes)
 
 
 def mirror_basis(d: Discrete) -> csr_matrix:

@@ -19,7 +19,7 @@ dimensionless: lengths by L, velocities by U, pressure and G L by mu U / L, Re =
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 from scipy.sparse import coo_matrix, csr_matrix
@@ -45,6 +45,7 @@ class Tables:
     pdofs: np.ndarray
     nv: int
     np_: int
+    _cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     @classmethod
     def of(cls, vbasis: Basis, pbasis: Basis) -> "Tables":
@@ -53,6 +54,22 @@ class Tables:
         psi = np.array([np.asarray(b[0]) for b in pbasis.basis])
         x = np.asarray(vbasis.global_coordinates())[0]
         return cls(phi, dphi, psi, vbasis.dx, x, vbasis.element_dofs, pbasis.element_dofs, vbasis.N, pbasis.N)
+
+    def product(self, name: str) -> np.ndarray:
+        """Products of two shape functions (or derivatives) times the quadrature weight, (e, q, a, b),
+        made once per grid: "mass" phi_i phi_j, "stiff" grad phi_i . grad phi_j, "adv_u" / "adv_z"
+        phi_i dphi_j/du / dphi_j/dz, "div_u" / "div_z" dphi_i/du psi_k / dphi_i/dz psi_k, "pres" phi_i psi_k.
+        A cell's integral of a field f times one of them is then one small matrix product (``_integrals``)."""
+        got = self._cache.get(name)
+        if got is None:
+            phi, dphi, psi = self.phi, self.dphi, self.psi
+            terms = {"mass": ("ieq,jeq,eq->eqij", phi, phi), "stiff": ("iceq,jceq,eq->eqij", dphi, dphi),
+                     "adv_u": ("ieq,jeq,eq->eqij", phi, dphi[:, 0]), "adv_z": ("ieq,jeq,eq->eqij", phi, dphi[:, 1]),
+                     "div_u": ("ieq,keq,eq->eqik", dphi[:, 0], psi), "div_z": ("ieq,keq,eq->eqik", dphi[:, 1], psi),
+                     "pres": ("ieq,keq,eq->eqik", phi, psi)}
+            spec, a, b = terms[name]
+            got = self._cache[name] = np.einsum(spec, a, b, self.dx)
+        return got
 
     def at(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """A velocity-type field (dofs) at the quadrature points: value (e, q), gradient (2, e, q)."""
@@ -63,77 +80,88 @@ class Tables:
         return np.einsum("ke,keq->eq", values[self.pdofs], self.psi)
 
 
-def _mass(t: Tables, coef: np.ndarray) -> np.ndarray:
-    """(e, i, j) int coef phi_i phi_j."""
-    return np.einsum("ieq,jeq,eq->eij", t.phi, t.phi, coef * t.dx)
+def _integrals(t: Tables, name: str, *fields: np.ndarray | float) -> list[np.ndarray]:
+    """(e, a, b) int f phi_a phi_b (the pair named as in ``Tables.product``) for each field f
+    ((e, q) values at the quadrature points, or a constant): one batched product for them all."""
+    prod = t.product(name)
+    e, q, na, nb = prod.shape
+    f = np.stack([np.broadcast_to(v, (e, q)) for v in fields], axis=1)  # (e, n, q)
+    out = f @ prod.reshape(e, q, na * nb)
+    return [out[:, k].reshape(e, na, nb) for k in range(len(fields))]
 
 
-def _scatter(rows: list, cols: list, vals: list, local: np.ndarray, rdofs: np.ndarray, cdofs: np.ndarray,
-             roff: int, coff: int) -> None:
-    e, ni, nj = local.shape
-    rows.append(np.broadcast_to((rdofs.T + roff)[:, :, None], (e, ni, nj)).ravel())
-    cols.append(np.broadcast_to((cdofs.T + coff)[:, None, :], (e, ni, nj)).ravel())
-    vals.append(local.ravel())
+def _block_keys(curved: bool) -> list[tuple[int, int]]:
+    """The Jacobian's blocks in assembly order, (row, column) with 0, 1, 2 = u_n, w, u_z and 3 = p."""
+    return ([(0, 0), (0, 2), (1, 0), (1, 1), (1, 2), (2, 0), (2, 2)] + ([(0, 1)] if curved else [])
+            + [(0, 3), (3, 0), (2, 3), (3, 2)])
 
 
-def _viscous(t: Tables, kappa: float) -> tuple[np.ndarray, np.ndarray | float]:
-    """(e, i, j) int (r/R) grad phi_i . grad phi_j, and int kappa^2 (R/r) phi_i phi_j (0.0 when straight)."""
-    rw = 1.0 + kappa * t.x
-    stiff = np.einsum("iceq,jceq,eq->eij", t.dphi, t.dphi, t.dx * rw)
-    return stiff, (_mass(t, kappa * kappa / rw) if kappa else 0.0)
+def jacobian_pattern(t: Tables, curved: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Row and column of every entry ``jacobian_values`` returns, in the same order (made once
+    per grid; ``curved``: kappa != 0, which adds the (u_n, w) block)."""
+    key = ("pattern", curved)
+    if key not in t._cache:
+        rows, cols = [], []
+        for a, b in _block_keys(curved):
+            rdofs = t.pdofs if a == 3 else t.vdofs
+            cdofs = t.pdofs if b == 3 else t.vdofs
+            e, ni, nj = rdofs.shape[1], rdofs.shape[0], cdofs.shape[0]
+            rows.append(np.broadcast_to((rdofs.T + a * t.nv)[:, :, None], (e, ni, nj)).ravel())
+            cols.append(np.broadcast_to((cdofs.T + b * t.nv)[:, None, :], (e, ni, nj)).ravel())
+        t._cache[key] = (np.concatenate(rows), np.concatenate(cols))
+    return t._cache[key]
 
 
-def streamwise_at_rest(t: Tables, kappa: float) -> csr_matrix:
-    """The streamwise block (w, w) of the Jacobian at rest, (nv, nv): there every other block in
-    w's rows and columns vanishes, so the first Newton step from rest (the Stokes flow, pure
-    streamwise) is one solve of this block instead of one of the whole Jacobian."""
-    stiff, curv = _viscous(t, kappa)
-    rows: list = []
-    cols: list = []
-    vals: list = []
-    _scatter(rows, cols, vals, np.asarray(stiff + curv), t.vdofs, t.vdofs, 0, 0)
-    return coo_matrix((vals[0], (rows[0], cols[0])), shape=(t.nv, t.nv)).tocsr()
-
-
-def jacobian(t: Tables, kappa: float, state: np.ndarray) -> csr_matrix:
-    """Newton Jacobian of the r-weighted equations (Re = 1: viscous velocity scale) about
-    ``state`` = [u_n, w, u_z (nv each), p (np)]; rows/columns in the same order."""
+def jacobian_values(t: Tables, kappa: float, state: np.ndarray) -> np.ndarray:
+    """The Newton Jacobian's entries about ``state`` (Re = 1: viscous velocity scale), one per
+    entry of ``jacobian_pattern(t, kappa != 0)`` (repeated positions add up)."""
     nv = t.nv
     ur, gr = t.at(state[:nv])
     ut, gt = t.at(state[nv:2 * nv])
     uz, gz = t.at(state[2 * nv:3 * nv])
     rw = 1.0 + kappa * t.x
-    dxw = t.dx * rw
-    stiff, curv = _viscous(t, kappa)
-    adv = np.einsum("ieq,jceq,ceq->eij", t.phi, t.dphi, np.array([ur, uz]) * dxw)  # test i, (a.grad) phi_j
-    diag = stiff + adv
-    blocks = {
-        (0, 0): diag + curv + _mass(t, rw * gr[0]),
-        (0, 2): _mass(t, rw * gr[1]),
-        (1, 0): _mass(t, rw * gt[0] + kappa * ut),
-        (1, 1): diag + curv + (_mass(t, kappa * ur) if kappa else 0.0),
-        (1, 2): _mass(t, rw * gt[1]),
-        (2, 0): _mass(t, rw * gz[0]),
-        (2, 2): diag + _mass(t, rw * gz[1]),
-    }
-    if kappa:
-        blocks[(0, 1)] = _mass(t, -2.0 * kappa * ut)
-    rows: list = []
-    cols: list = []
-    vals: list = []
-    for (a, b), local in blocks.items():
-        _scatter(rows, cols, vals, np.asarray(local), t.vdofs, t.vdofs, a * nv, b * nv)
+    curved = bool(kappa)
+    (stiff,) = _integrals(t, "stiff", rw)
+    (adv_u,) = _integrals(t, "adv_u", ur * rw)  # test i, (a.grad) phi_j
+    (adv_z,) = _integrals(t, "adv_z", uz * rw)
+    diag = stiff + (adv_u + adv_z)
+    fields = [rw * gr[0], rw * gr[1], rw * gt[0] + kappa * ut, rw * gt[1], rw * gz[0], rw * gz[1]]
+    if curved:
+        fields += [kappa * kappa / rw, kappa * ur, -2.0 * kappa * ut]
+    m = _integrals(t, "mass", *fields)
+    curv = m[6] if curved else 0.0
+    blocks = [diag + curv + m[0], m[1], m[2], diag + curv + (m[7] if curved else 0.0), m[3], m[4], diag + m[5]]
+    if curved:
+        blocks.append(m[8])
     # pressure: -int p (r/R)(div_axi v) and its transpose, the continuity rows
-    bx = -np.einsum("ieq,keq,eq->eik", t.dphi[:, 0], t.psi, dxw)
+    (bx,) = _integrals(t, "div_u", rw)
+    bx = -bx - _integrals(t, "pres", kappa)[0] if curved else -bx
+    (bz,) = _integrals(t, "div_z", rw)
+    bz = -bz
+    blocks += [bx, bx.transpose(0, 2, 1), bz, bz.transpose(0, 2, 1)]
+    return np.concatenate([np.ravel(b) for b in blocks])
+
+
+def jacobian(t: Tables, kappa: float, state: np.ndarray) -> csr_matrix:
+    """Newton Jacobian of the r-weighted equations (Re = 1: viscous velocity scale) about
+    ``state`` = [u_n, w, u_z (nv each), p (np)]; rows/columns in the same order."""
+    n = 3 * t.nv + t.np_
+    return coo_matrix((jacobian_values(t, kappa, state), jacobian_pattern(t, bool(kappa))), shape=(n, n)).tocsr()
+
+
+def streamwise_at_rest(t: Tables, kappa: float) -> csr_matrix:
+    """The streamwise block (w, w) of the Jacobian at rest, (nv, nv): int (r/R) grad w . grad phi
+    + kappa^2 (R/r) w phi. There every other block in w's rows and columns vanishes, so the first
+    Newton step from rest (the Stokes flow, pure streamwise) is one solve of this block instead
+    of one of the whole Jacobian."""
+    rw = 1.0 + kappa * t.x
+    (local,) = _integrals(t, "stiff", rw)
     if kappa:
-        bx = bx - np.einsum("ieq,keq,eq->eik", t.phi, t.psi, kappa * t.dx)
-    bz = -np.einsum("ieq,keq,eq->eik", t.dphi[:, 1], t.psi, dxw)
-    po = 3 * nv
-    for a, local in ((0, bx), (2, bz)):
-        _scatter(rows, cols, vals, local, t.vdofs, t.pdofs, a * nv, po)
-        _scatter(rows, cols, vals, local.transpose(0, 2, 1), t.pdofs, t.vdofs, po, a * nv)
-    n = po + t.np_
-    return coo_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(n, n)).tocsr()
+        local = local + _integrals(t, "mass", kappa * kappa / rw)[0]
+    e, ni, nj = local.shape
+    rows = np.broadcast_to(t.vdofs.T[:, :, None], (e, ni, nj)).ravel()
+    cols = np.broadcast_to(t.vdofs.T[:, None, :], (e, ni, nj)).ravel()
+    return coo_matrix((local.ravel(), (rows, cols)), shape=(t.nv, t.nv)).tocsr()
 
 
 def residual(t: Tables, kappa: float, state: np.ndarray, g: float) -> np.ndarray:

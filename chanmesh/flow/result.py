@@ -201,6 +201,9 @@ def _peaks(f: np.ndarray, nb: list[np.ndarray], on_wall: np.ndarray) -> list[tup
             wall = i if wall < 0 else wall
         if not roots:
             continue  # a new peak: its own component
+        if len(roots) == 1:  # joins one component (most nodes): nothing dies
+            parent[i] = roots.pop()
+            continue
         # the component with the highest peak (or the wall) survives; the others die here
         def height(r: int) -> float:
             return math.inf if wall >= 0 and root(wall) == r else values[r]

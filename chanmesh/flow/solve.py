@@ -17,7 +17,6 @@ import numpy as np
 
 from chanmesh.errors import ChanmeshError
 from chanmesh.flow import equations as eq
-from chanmesh.flow.branch import FourCellNotFound, four_cell
 from chanmesh.flow.discrete import Discrete, discretise, mirror_basis, solve_free
 from chanmesh.flow.newton import Counts, FlowNotConverged, Point, by_jumps, continuation
 from chanmesh.flow.grid import SectionGrid, default_grid, mirrored, shape_of
@@ -160,6 +159,8 @@ def _solve(shape: Any, radius: float | None, density: float, viscosity: float, f
     counts = Counts()
     extra: dict[str, Any] = {"branch": branch}
     if branch == "four-cell":
+        from chanmesh.flow.branch import FourCellNotFound, four_cell  # only here: numbers' solve does without
+
         d.reduced = mirror_basis(d)
         if start.q <= 0 or start.q >= q_target or (initial is not None and initial.solver.get("branch") != "four-cell"):
             start = continuation(d, kappa, FOUR_CELL_START * q_target, Point(np.zeros(d.size), 0.0, 0.0), counts,
@@ -168,7 +169,7 @@ def _solve(shape: Any, radius: float | None, density: float, viscosity: float, f
         def cells(x: np.ndarray) -> int:
             nv = d.scalar.N
             psi = _stream_function(d, kappa, x[:nv], x[2 * nv:3 * nv])[d.node_dofs] * scale_v * length
-            return len(find_vortices(d.out_points * length, d.out_triangles, psi, _boundary_nodes(d),
+            return len(find_vortices(d.out_points * length, d.out_triangles, psi, d.wall_nodes,
                                      floor=PSI_FLOOR * u_mean * length))
 
         try:
@@ -237,7 +238,7 @@ def _assemble_result(d: Discrete, shape: Any, radius: float | None, density: flo
     mean_speed = mean_speed / area_nd * scale_v
     peak_u, peak_z = _peak(pts, stream, d.out_triangles)
     g_scale = viscosity * scale_v / L**2  # Pa/m per dimensionless G
-    boundary = _boundary_nodes(d)
+    boundary = d.wall_nodes
     u_mean = flow_rate / shape.area
     vortices = find_vortices(pts, d.out_triangles, psi, boundary, floor=PSI_FLOOR * u_mean * L)
     de = None if radius is None else dean_number(re, L, abs(radius))
@@ -277,18 +278,14 @@ def _peak(pts: np.ndarray, w: np.ndarray, triangles: np.ndarray) -> tuple[float,
     return refine_extremum(pts, w, k, neighbours(triangles, len(pts)))
 
 
-def _boundary_nodes(d: Discrete) -> np.ndarray:
-    """Indices into the output nodes that lie on the walls."""
-    wall = np.asarray(d.scalar.get_dofs().all())
-    return np.flatnonzero(np.isin(d.node_dofs, wall))
-
-
 ERROR_KEYS = ("secondary_max", "secondary_mean", "dpds", "max_streamwise")
 
 
 def _richardson(flow: SectionFlow, section: Any, grid: SectionGrid, radius: float | None, density: float,
                 viscosity: float, flow_rate: float, discretisation: str, branch: str = "primary") -> dict[str, Any] | None:
     """Relative error estimates |f_h - f_2h| / (2^p - 1) / |f_h| from a grid with half the cells."""
+    from chanmesh.flow.branch import FourCellNotFound
+
     if grid.shape is None:
         return {"method": "not estimated: the grid is not structured", "relative": None}
     nx, nz = grid.shape

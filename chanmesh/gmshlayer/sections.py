@@ -65,12 +65,12 @@ def surface_splits(design: Design, wall_size: float, core_size: float) -> list[f
     return [float(c) for c in cuts[~near]]
 
 
-def embed_sections(design: Design, volume: int, splits: Sequence[float] = ()) -> tuple[list[int], list[list[int]], list[int]]:
+def embed_sections(design: Design, volume: int, splits: Sequence[float] = ()) -> tuple[list[int], list[list[int]], list[list[int]]]:
     """Fragment ``volume`` with the section faces of ``mesh.sections`` and, unnamed, at the
     arc lengths ``splits`` (m, see ``surface_splits``).
 
-    Returns (volume pieces, surface tags of each section in station order, surface tags of the
-    unnamed cuts); the model is synchronized. Without either: ([volume], [], []).
+    Returns (volume pieces, surface tags of each section in station order, surface tags of each
+    unnamed cut in ``splits`` order); the model is synchronized. Without either: ([volume], [], []).
     """
     stations = list(mesh_station_arc_lengths(design))
     cuts = stations + [float(s) for s in splits]
@@ -101,7 +101,7 @@ def embed_sections(design: Design, volume: int, splits: Sequence[float] = ()) ->
     if rings:
         occ.remove(rings, recursive=True)
         occ.synchronize()
-    return volumes, inner[: len(stations)], [t for faces in inner[len(stations):] for t in faces]
+    return volumes, inner[: len(stations)], inner[len(stations):]
 
 
 def _enlarged(outline: Outline) -> Outline:

@@ -1,9 +1,10 @@
 """The computed secondary (Dean) flow at a design's first Dean station, for ``numbers`` and the
 manifest, beside the Ookawara et al. (2004) correlation and labelled so the two are not confused.
 
-One solve of ``chanmesh.flow`` on the default section grid (about a second), at the first
-station of ``regime.stations_of`` (the arc's bend, the spiral's start, the first U-turn); None
-when the design has no flow or no curved station (chambers).
+One solve of ``chanmesh.flow`` on the default section grid (a few tenths of a second, most of it
+importing scipy and scikit-fem), at the first station of ``regime.stations_of`` (the arc's bend,
+the spiral's start, the first U-turn); None when the design has no flow or no curved station
+(chambers).
 """
 
 from __future__ import annotations
