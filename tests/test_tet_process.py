@@ -44,6 +44,21 @@ def test_child_mesh_equals_the_in_process_mesh():
            [(x.type, x.cells.tolist(), x.tags.tolist()) for x in b.volumes + b.facets]
 
 
+def test_a_program_read_from_standard_input_meshes_tetrahedra():
+    # multiprocessing's children rerun the parent's main file by path; '<stdin>' has none, so
+    # the mesher runs in-process there instead of failing with "stopped unexpectedly"
+    script = (
+        "from tests.conftest import small_design\n"
+        "from chanmesh.meshing.tet_process import can_use_child, mesh_tet_isolated\n"
+        "print(can_use_child(), mesh_tet_isolated(small_design('arc')).n_volume_cells)\n"
+    )
+    r = subprocess.run([sys.executable, "-"], input=script, capture_output=True, text=True, timeout=300,
+                       cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    assert r.returncode == 0, r.stderr[-2000:]
+    used_child, cells = r.stdout.split()
+    assert used_child == "False" and int(cells) == mesh_tet(small_design("arc")).n_volume_cells
+
+
 def test_time_limit_ends_the_build_with_one_line(monkeypatch):
     monkeypatch.setattr(tp, "BASE_S", 1.0)
     monkeypatch.setattr(tp, "FLOOR_RATE", 1e12)

@@ -19,17 +19,20 @@ joined here (``tet_merge``):
   bench/RESULTS.md), and ends the build with one ``MeshingError`` line.
 
 Inside a daemonic process (a dask worker of ``chanmesh sweep``), which may not have children,
-the mesher runs in-process as before; the sweep's own cancellation applies there.
+and in a program read from standard input, whose children could not start, the mesher runs
+in-process (the parts in turn); the sweep's own cancellation applies there.
 """
 
 from __future__ import annotations
 
 import multiprocessing as mp
-from multiprocessing.connection import wait
+import os
 import signal
+import sys
 import time
 import traceback
 from collections.abc import Sequence
+from multiprocessing.connection import wait
 from typing import Any, Callable
 
 from chanmesh.design.model import Design
@@ -93,8 +96,16 @@ def _child(design: Design, scale: float, splits: list[float], part: int, parts: 
 
 
 def can_use_child() -> bool:
-    """False inside a daemonic process (multiprocessing forbids it children)."""
-    return not mp.current_process().daemon
+    """False inside a daemonic process (multiprocessing forbids it children), and in a
+    program read from standard input (``python - < script``): multiprocessing's children
+    rerun the parent's main file by its path, and '<stdin>' is none (the child exits with
+    FileNotFoundError)."""
+    if mp.current_process().daemon:
+        return False
+    main = sys.modules.get("__main__")
+    spec = getattr(main, "__spec__", None)
+    path = getattr(main, "__file__", None)
+    return getattr(spec, "name", None) is not None or path is None or os.path.exists(path)
 
 
 def mesh_tet_isolated(design: Design, scale: float = 1.0, progress: Progress | None = None) -> ChannelMesh:
