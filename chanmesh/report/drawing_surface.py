@@ -4,10 +4,12 @@ facets of a large one, so that cell edges are drawn at every size.
 Why: a mesh of a million cells has some 10^5 boundary facets; drawn one by one their edges
 fuse into a dark smear and cost seconds. Instead the nodes are clustered on a grid of cubes
 of side ``cube`` (vertex clustering), separately for each group and each dominant facet
-normal (+-x, +-y, +-z), so the top and bottom walls, the two side walls and a port and the
-wall beside it never merge into each other. A structured quadrilateral surface stays a
-quadrilateral surface, only coarser, where its cells are smaller than the cube; cells larger
-than the cube are kept as they are. The cube is chosen to leave
+normal (+-x, +-y, +-z; a plane group such as a port as one), so the top and bottom walls,
+the two side walls and a port and the wall beside it never merge into each other; each
+cluster is drawn at its node on the most (group, direction) pairs, so the channel's edges and
+the line where a port meets the wall stay straight in both. A structured quadrilateral
+surface stays a quadrilateral surface, only coarser, where its cells are smaller than the
+cube; cells larger than the cube are kept as they are. The cube is chosen to leave
 at most ``limit`` facets (each group its share, at least ``FEW``). Coordinates stay in the caller's unit.
 
 Cost: linear in the surface's facets, numpy only (no Python loop over facets): the surface's
@@ -138,16 +140,25 @@ def _drawn(points: np.ndarray, names: list[str], blocks: list[tuple[int, np.ndar
     # each group merged on its own, to its share of the limit but never below a few hundred
     # facets, so that a small port or a section face stays visible beside a large wall
     bounds = (points.min(axis=0), points.max(axis=0))
+    normals = [facet_normals(points, c) for _, c in blocks]  # once per facet: classes, ranks, areas
+    areas = [float(_lengths(n).sum()) for n in normals]
+    classes: list[np.ndarray] = [np.empty(0, dtype=np.int64)] * len(blocks)
+    for gi in range(len(names)):
+        mine = [i for i, (g, _) in enumerate(blocks) if g == gi]
+        for i, k in zip(mine, _group_classes([normals[i] for i in mine], sum(areas[i] for i in mine)), strict=True):
+            classes[i] = k
+    rank = _surface_rank(len(points), [(g, c, k) for (g, c), k in zip(blocks, classes, strict=True)], len(names))
     out: list[tuple[int, np.ndarray]] = []
     cube = 0.0
     for gi in range(len(names)):
-        mine = [c for g, c in blocks if g == gi]
-        count = sum(len(c) for c in mine)
+        mine = [(c, k) for (g, c), k in zip(blocks, classes, strict=True) if g == gi]
+        area = sum(a for (g, _), a in zip(blocks, areas, strict=True) if g == gi)
+        count = sum(len(c) for c, _ in mine)
         share = group_share(count, total, limit)
         if count <= share:
-            out += [(gi, c) for c in mine]
+            out += [(gi, c) for c, _ in mine]
             continue
-        merged, side = _merge(points, mine, share, bounds)
+        merged, side = _merge(points, mine, area, rank, share, bounds)
         out += [(gi, c) for c in merged]
         cube = max(cube, side)
     used, out = _numbered(len(points), out)  # only the nodes the merged polygons use
@@ -216,6 +227,42 @@ def _lengths(v: np.ndarray) -> np.ndarray:
     return np.sqrt(v[:, 0] * v[:, 0] + v[:, 1] * v[:, 1] + v[:, 2] * v[:, 2])
 
 
+def _group_classes(normals: list[np.ndarray], area: float) -> list[np.ndarray]:
+    """Normal class of each facet of one group (``normals``: its blocks' area vectors, ``area``
+    their lengths' sum): each facet's own, but one class for a plane group (a port, a section:
+    its area vectors sum to its area). A plane turned 45 degrees between two axes would
+    otherwise split along rounding noise into two classes, merged apart, with gaps between."""
+    total = sum((n.sum(axis=0) for n in normals), np.zeros(3))
+    if len(normals) and float(np.linalg.norm(total)) >= (1.0 - 1e-9) * area > 0.0:
+        one = _normal_classes(total[None, :])[0]
+        return [np.full(len(n), one, dtype=np.int64) for n in normals]
+    return [_normal_classes(n) for n in normals]
+
+
+def _surface_rank(n_points: int, blocks: list[tuple[int, np.ndarray, np.ndarray]], n_groups: int) -> np.ndarray:
+    """Per node of the surface, the (group, normal class) pairs it lies on, summed over every
+    group: 1 inside a flat stretch of one group, 2 on an edge of the channel or on the line
+    where two groups meet (a port's outline on the wall), 3 at a corner. ``blocks``: (group,
+    cells, class of each cell). Counting the other groups too keeps a merged port's outline,
+    and the wall's beside it, on that line: a group's own classes alone would rank its
+    outline like its inside and let clusters pull it in, notching the port."""
+    rank = np.zeros(n_points, dtype=np.int8)
+    for gi in range(n_groups):
+        slots = [c * 6 + k[:, None] for g, c, k in blocks if g == gi]
+        if not slots:
+            continue
+        flat = np.concatenate([s.ravel() for s in slots])
+        if len(flat) * 8 < n_points:  # a small group (a port): its own slots, sorted
+            nodes, counts = np.unique(np.unique(flat) // 6, return_counts=True)
+            rank[nodes] += counts.astype(np.int8)
+        else:  # a table over (node, class) slots, as _pairs builds
+            has = np.zeros(6 * n_points, dtype=bool)
+            has[flat] = True
+            six = has.reshape(-1, 6)
+            rank += sum(six[:, j].astype(np.int8) for j in range(6))
+    return rank
+
+
 def _normal_classes(n: np.ndarray) -> np.ndarray:
     """Class 0..5 of each normal: its dominant axis (the first of equals) and its sign."""
     a = np.abs(n)
@@ -230,41 +277,37 @@ class _Pairs:
 
     node: np.ndarray  # (P,) node of each pair
     cls: np.ndarray  # (P,) class of each pair
-    rank: np.ndarray  # (P,) classes the pair's node lies on in this group: 3 corner, 2 edge, 1 face
+    rank: np.ndarray  # (P,) (group, class) pairs of the whole surface at the pair's node (_surface_rank)
     corners: list[np.ndarray]  # per block, (m, k) pair index of each corner
     area: float  # the group's area
 
 
-def _pairs(points: np.ndarray, blocks: list[np.ndarray]) -> _Pairs:
-    """Normals once per facet, then the pairs by a table over (node, class) slots (no sort)."""
-    slots, area = [], 0.0
-    for c in blocks:
-        n = facet_normals(points, c)
-        area += float(_lengths(n).sum())
-        slots.append(c * 6 + _normal_classes(n)[:, None])
-    has = np.zeros(6 * len(points), dtype=bool)
+def _pairs(n_points: int, blocks: list[tuple[np.ndarray, np.ndarray]], area: float, rank: np.ndarray) -> _Pairs:
+    """The pairs of ``blocks`` ((cells, class of each cell); ``area`` theirs) by a table over
+    (node, class) slots (no sort); ``rank`` per node (``_surface_rank``)."""
+    slots = [c * 6 + k[:, None] for c, k in blocks]
+    has = np.zeros(6 * n_points, dtype=bool)
     for s in slots:
         has[s.ravel()] = True
     pairs = np.flatnonzero(has)
     index = np.empty(len(has), dtype=np.int64)  # pair number of each used slot (others never read)
     index[pairs] = np.arange(len(pairs))
-    six = has.reshape(-1, 6)
-    rank = sum(six[:, j].astype(np.int8) for j in range(6))
     return _Pairs(pairs // 6, pairs % 6, rank[pairs // 6], [index[s] for s in slots], area)
 
 
-def _merge(points: np.ndarray, blocks: list[np.ndarray], limit: int,
-           bounds: tuple[np.ndarray, np.ndarray]) -> tuple[list[np.ndarray], float]:
+def _merge(points: np.ndarray, blocks: list[tuple[np.ndarray, np.ndarray]], area: float, rank: np.ndarray,
+           limit: int, bounds: tuple[np.ndarray, np.ndarray]) -> tuple[list[np.ndarray], float]:
     """Cluster with a cube that leaves at most ``limit`` facets: from the mean facet size of
     ``limit`` facets, grown by the excess plus 3 % until the count fits (on channel walls,
     whose cells are already long along the flow, the count falls about as 1/cube). Each trial
     only counts the facets left with three distinct clusters (an upper bound: duplicates are
     dropped later); the clusters are built once, at the cube that fits."""
     used = None
-    if sum(c.size for c in blocks) < len(points):  # a small group (a port): tables over its own nodes only
-        used, numbered = _numbered(len(points), [(0, c) for c in blocks])
-        points, blocks = points[used], [c for _, c in numbered]
-    pairs = _pairs(points, blocks)
+    if sum(c.size for c, _ in blocks) < len(points):  # a small group (a port): tables over its own nodes only
+        used, numbered = _numbered(len(points), [(0, c) for c, _ in blocks])
+        points, rank = points[used], rank[used]
+        blocks = [(c, k) for (_, c), (_, k) in zip(numbered, blocks, strict=True)]
+    pairs = _pairs(len(points), blocks, area, rank)
     cube = float(np.sqrt(pairs.area / limit))
     while True:
         key = _cluster_keys(points, pairs, cube, bounds)
@@ -310,9 +353,10 @@ def _distinct_corners(ids: np.ndarray) -> np.ndarray:
 
 def _representatives(at: np.ndarray, rank: np.ndarray, inverse: np.ndarray, order: np.ndarray,
                      starts: np.ndarray) -> np.ndarray:
-    """One pair per cluster: the one whose node lies on the most classes (a corner before an
-    edge before a face node), so the channel's edges and corners stay where they are and
-    neighbouring classes meet there; among equals, the node nearest the cluster's mean
+    """One pair per cluster: the one whose node lies on the most (group, class) pairs of the
+    surface (a corner before an edge or a port's outline before a face node), so the channel's
+    edges and corners and the lines where groups meet stay where they are and neighbouring
+    classes and groups meet there; among equals, the node nearest the cluster's mean
     (a minimum over each cluster's run of ``order``, the pairs sorted by cluster, which
     starts at ``starts``)."""
     n_clusters = len(starts)
