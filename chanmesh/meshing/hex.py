@@ -53,6 +53,17 @@ def grid_points(design: Design, plan: HexPlan) -> np.ndarray:
     return pts
 
 
+def open_sides(columns: np.ndarray) -> dict[str, np.ndarray]:
+    """For each side of a cell column ("k-", "k+" along, "i-", "i+" across), the kept columns
+    (``columns``, (nk, ni) bool) whose face on that side no kept column covers."""
+    pad = np.pad(columns, 1)
+    inner = pad[1:-1, 1:-1]
+    return {
+        "k-": inner & ~pad[:-2, 1:-1], "k+": inner & ~pad[2:, 1:-1],
+        "i-": inner & ~pad[1:-1, :-2], "i+": inner & ~pad[1:-1, 2:],
+    }
+
+
 def boundary_quads(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
     """Boundary quads (outward node order, full-grid node numbers) sorted into inlet, outlet
     pieces and wall. Any grid: the mesher's, or a coarser one on a subset of its node lines
@@ -60,12 +71,6 @@ def boundary_quads(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
     nj = grid.shape[2]
     col = grid.column_mask()
     corner0, offsets = grid.corner0_grid(), grid.node_offsets()
-    pad = np.pad(col, 1)
-    inner = pad[1:-1, 1:-1]
-    open_side = {
-        "k-": inner & ~pad[:-2, 1:-1], "k+": inner & ~pad[2:, 1:-1],
-        "i-": inner & ~pad[1:-1, :-2], "i+": inner & ~pad[1:-1, 2:],
-    }
     out: dict[str, list[np.ndarray]] = {"inlet": [], "outlet": [], "wall": []}
 
     def quads(cols: np.ndarray, j: slice, face: str) -> np.ndarray:
@@ -73,7 +78,7 @@ def boundary_quads(grid: SweepGrid) -> dict[str, list[np.ndarray]]:
         return (base.reshape(-1)[:, None] + offsets[_QUADS[_FACE_DIR[face]]][None, :])
 
     everything = slice(None)
-    for face, cols in open_side.items():
+    for face, cols in open_sides(col).items():
         if face in ("k-", "k+"):
             end = np.zeros_like(cols)
             end[0 if face == "k-" else -1] = True

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from chanmesh.meshing.hex import boundary_quads
+from chanmesh.meshing.hex import boundary_quads, open_sides
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.sweep_grid import SweepGrid
 from chanmesh.report.drawing_surface import DrawingSurface, blocks_surface, group_share
@@ -147,12 +147,9 @@ def _planes(mesh: ChannelMesh, rank: np.ndarray, nk: int) -> tuple[dict[str, int
 def _open_sides(mask: np.ndarray) -> tuple[int, int]:
     """Side faces of the kept columns that no kept column covers: (across and along the
     channel's inside, at the two ends), as counts of columns."""
-    pad = np.pad(mask, 1)
-    inner = pad[1:-1, 1:-1]
-    sides = int((inner & ~pad[1:-1, :-2]).sum() + (inner & ~pad[1:-1, 2:]).sum())
-    k_sides = int((inner & ~pad[:-2, 1:-1]).sum() + (inner & ~pad[2:, 1:-1]).sum())
+    sides = sum(int(cols.sum()) for cols in open_sides(mask).values())
     ends = int(mask[0].sum() + mask[-1].sum())
-    return sides + k_sides - ends, ends
+    return sides - ends, ends
 
 
 def _boundary_is_the_grids(mask: np.ndarray, nj: int, counts: dict[str, int], planes: dict[str, Plane]) -> bool:
