@@ -37,13 +37,9 @@ def estimate_tet_cells(design: Design, scale: float = 1.0) -> int:
     return int(size_grid(design, tet_grading(design, scale)).estimate_tets())
 
 
-def extract_mesh(model_unit: float = MODEL_UNIT) -> ChannelMesh:
-    """Read the current gmsh model's physical groups into a ``ChannelMesh`` (metres)."""
-    return _extract(model_unit)[0]
-
-
 def _extract(model_unit: float) -> tuple[ChannelMesh, np.ndarray]:
-    """The mesh, and the table from gmsh node tag to row of its points (-1: not used)."""
+    """The current gmsh model's physical groups as a ``ChannelMesh`` (metres), and the table
+    from gmsh node tag to row of its points (-1: not used)."""
     node_tags, coords, _ = gmsh.model.mesh.getNodes()
     order = np.argsort(node_tags)
     node_tags = node_tags[order]
@@ -173,10 +169,8 @@ def mesh_tet(design: Design, scale: float = 1.0, progress: Progress | None = Non
         mesh = merge_parts(done)
     mesh.info = {
         **done[0].mesh.info,
-        **{
-            "surface_pieces": sum(p.pieces for p in done),
-            "mesh_parts": parts,
-            "tets_with_two_wall_faces": count_multi_wall_tets(mesh),
-        },
+        "surface_pieces": sum(p.pieces for p in done),
+        "mesh_parts": parts,
+        "tets_with_two_wall_faces": count_multi_wall_tets(mesh),
     }
     return mesh
