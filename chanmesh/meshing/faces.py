@@ -94,6 +94,20 @@ class FaceTable:
     size: int
     parts: list[_Part]
     partner: np.ndarray
+    from_grid: bool = False  # paired from the mesh's sweep grid, its cells proved to be the grid's
+    boundary_tags: tuple[list[np.ndarray], np.ndarray] | None = None
+    """Set by the tagging check (``verify``): the facet blocks' cell arrays it read, and the group
+    tag of every boundary slot in slot order; valid while the mesh's facet arrays are those."""
+
+    def tags_of_boundary(self, mesh: ChannelMesh) -> np.ndarray | None:
+        """Group tag of every boundary slot (slot order), if the check found them for the
+        mesh's present facets, else None."""
+        if self.boundary_tags is None:
+            return None
+        arrays, tags = self.boundary_tags
+        now = [b.cells for b in mesh.facets]
+        same = len(arrays) == len(now) and all(x is y for x, y in zip(arrays, now))
+        return tags if same else None
 
     def _locate(self, slots: np.ndarray) -> list[tuple[_Part, np.ndarray | None]]:
         """The parts ``slots`` fall in, each with the positions that do (None: all of them)."""
@@ -231,6 +245,7 @@ def face_table(mesh: ChannelMesh, size: int) -> FaceTable | None:
         if size == 4 and mesh.sweep is not None and len(arrays) == 1 and mesh.volumes[0].type == "hexahedron":
             partner = sweep_partner(mesh.sweep, arrays[0])  # None unless the cells follow the grid
         table.partner = _pair(table, n) if partner is None else partner
+        table.from_grid = partner is not None
     cache[size] = (arrays, table)
     return table
 

@@ -52,8 +52,9 @@ def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:
     counts = {"boundary_facets": 0, "interior_faces": 0}
     for size in (3, 4):
         ftype = "triangle" if size == 3 else "quad"
-        tagged_blocks = [b.cells[~np.isin(b.tags, internal)] for b in mesh.facets if b.type == ftype]
-        tagged = np.concatenate(tagged_blocks) if tagged_blocks else np.zeros((0, size), np.int64)
+        blocks = [(b, ~np.isin(b.tags, internal)) for b in mesh.facets if b.type == ftype]
+        tagged = np.concatenate([b.cells[k] for b, k in blocks]) if blocks else np.zeros((0, size), np.int64)
+        tags = np.concatenate([b.tags[k] for b, k in blocks]) if blocks else np.zeros(0, np.int64)
         try:
             table = face_table(mesh, size)
         except ValueError:
@@ -66,12 +67,15 @@ def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:
             boundary = table.nodes(bslots)
             counts["interior_faces"] += int((len(table.partner) - len(bslots)) // 2)
         counts["boundary_facets"] += len(boundary)
-        _match(boundary, tagged, ftype)
+        partner = _match(boundary, tagged, ftype)
+        if table is not None:  # each boundary slot's group, for the quality figures' wall cells
+            table.boundary_tags = ([b.cells for b in mesh.facets], tags[partner[:len(boundary)] - len(boundary)])
     return counts
 
 
-def _match(boundary: np.ndarray, tagged: np.ndarray, ftype: str) -> None:
-    """Each boundary face equals exactly one tagged facet and each tagged facet one boundary face."""
+def _match(boundary: np.ndarray, tagged: np.ndarray, ftype: str) -> np.ndarray:
+    """Each boundary face equals exactly one tagged facet and each tagged facet one boundary face;
+    returns the pairing of ``pair_faces`` (boundary i <-> tagged ``partner[i] - len(boundary)``)."""
     nb = len(boundary)
     try:
         partner = pair_faces(np.concatenate([boundary, tagged]))
@@ -90,3 +94,4 @@ def _match(boundary: np.ndarray, tagged: np.ndarray, ftype: str) -> None:
     stray = int(np.sum(partner[nb:] < 0))
     if stray:
         raise MeshCheckError(f"{stray} tagged {ftype}s are not on the boundary")
+    return partner

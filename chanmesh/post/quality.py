@@ -13,6 +13,11 @@
   facet's plane to the nodes of its cell that are not on the facet (for a hexahedron the
   opposite node layer, for a tetrahedron its height over the facet). Without a ``wall``
   group (a file that lost its names) every boundary face is used and ``wall_source`` says so.
+
+A hexahedral mesh whose cells were proved to be its sweep grid's (``FaceTable.from_grid``)
+takes ``post.quality_grid`` for the per-cell figures and the non-orthogonality: no gathers, the
+same bits. The wall facets among the boundary faces come from the tagging check's groups when
+it ran on the mesh (``FaceTable.tags_of_boundary``), else from pairing with the wall group.
 """
 
 from __future__ import annotations
@@ -24,7 +29,9 @@ import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.faces import FaceTable, face_table
+from chanmesh.meshing.sweep_grid import SweepGrid
 from chanmesh.post.facepairs import pair_faces
+from chanmesh.post.quality_grid import grid_figures
 
 CHUNK = 400_000  # cells per sum of the scaled Jacobian (the grouping fixes the mean to the last bit)
 SUB = 25_000  # cells per batch of geometry: bounds the temporaries at a few tens of MB (50_000: 9 MB more, no faster)
@@ -192,51 +199,84 @@ def _wall_facets(mesh: ChannelMesh, size: int) -> np.ndarray | None:
     return np.concatenate(blocks) if blocks else np.zeros((0, size), np.int64)
 
 
+def _grid(mesh: ChannelMesh) -> SweepGrid | None:
+    """The mesh's sweep grid when its cells were proved to be the grid's (the face table was
+    paired from it), else None: then the figures take the general path."""
+    if mesh.sweep is None or len(mesh.volumes) != 1 or mesh.volumes[0].type != "hexahedron":
+        return None
+    table = face_table(mesh, 4)
+    return mesh.sweep if table is not None and table.from_grid else None
+
+
+def _batched_cell_figures(mesh: ChannelMesh, b, lo: int, end: int, centres: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Scaled Jacobian and edge ratio of cells lo..end of block ``b`` (general path); fills
+    their rows of ``centres`` (the block's cells start at row 0 of ``centres``)."""
+    sj_parts, er_parts = [], []
+    for a in range(lo, end, SUB):  # one batch's geometry alive at a time
+        g = _CellGeometry(mesh.points, b.cells[a:min(a + SUB, end)])  # never past the chunk
+        sj_parts.append(_scaled_jacobian(g, b.type))
+        er_parts.append(_edge_ratio(g, b.type))
+        centres[a:a + g.p.shape[2]] = _node_means(g)
+        del g
+    return np.concatenate(sj_parts), np.concatenate(er_parts)
+
+
+def _table_largest_angle(mesh: ChannelMesh, table: FaceTable, centres: np.ndarray) -> float:
+    """Non-orthogonality (degrees) over the interior faces of one face table, in batches."""
+    angle = 0.0
+    partner = table.partner
+    for lo in range(0, len(partner), SUB * 2):
+        own = np.arange(lo, min(lo + SUB * 2, len(partner)), dtype=np.int64)
+        other = partner[lo:lo + len(own)].astype(np.int64)
+        first, second = own[other > own], other[other > own]
+        if len(first):
+            angle = max(angle, _largest_angle(mesh.points, table.nodes(first), centres,
+                                              table.owner(first), table.owner(second)))
+    return angle
+
+
 def mesh_quality(mesh: ChannelMesh) -> Quality:
     """All quality figures of ``mesh`` (see the module docstring for the definitions)."""
     jac_min, jac_sum, aspect = np.inf, 0.0, 0.0
     jac_counts = np.zeros(len(JACOBIAN_EDGES) - 1, np.int64)
     ratios: list[np.ndarray] = []
     centres = np.empty((mesh.n_volume_cells, 3))  # node mean of every cell
-    start = 0
-    for b in mesh.volumes:
-        for lo in range(0, len(b.cells), CHUNK):
-            sj_parts, er_parts = [], []
-            end = min(lo + CHUNK, len(b.cells))
-            for a in range(lo, end, SUB):  # one batch's geometry alive at a time
-                g = _CellGeometry(mesh.points, b.cells[a:min(a + SUB, end)])  # never past the chunk
-                sj_parts.append(_scaled_jacobian(g, b.type))
-                er_parts.append(_edge_ratio(g, b.type))
-                centres[start + a:start + a + g.p.shape[2]] = _node_means(g)
-                del g
-            sj = np.concatenate(sj_parts)
-            jac_min = min(jac_min, float(sj.min()))
-            jac_sum += float(sj.sum())
-            jac_counts += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
-            er = np.concatenate(er_parts)
-            del sj_parts, er_parts
-            aspect = max(aspect, float(er.max()))
-            ratios.append(er.astype(np.float32))
-        start += len(b.cells)
-    angle = 0.0
+    grid = _grid(mesh)
+
+    def take(sj: np.ndarray) -> None:  # the scaled Jacobians of one chunk of cells
+        nonlocal jac_min, jac_sum
+        jac_min, jac_sum = min(jac_min, float(sj.min())), jac_sum + float(sj.sum())
+        jac_counts[:] += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
+
+    if grid is not None:  # one block of hexahedra on its sweep grid
+        whole = grid_figures(mesh.points, grid, centres, CHUNK, take)
+        aspect, angle, ratios = whole.edge_ratio_max, whole.non_orthogonality, [whole.edge_ratio]
+        del whole
+    else:
+        start, angle = 0, 0.0
+        for b in mesh.volumes:
+            for lo in range(0, len(b.cells), CHUNK):
+                sj, er = _batched_cell_figures(mesh, b, lo, min(lo + CHUNK, len(b.cells)), centres[start:])
+                take(sj)
+                aspect = max(aspect, float(er.max()))
+                ratios.append(er.astype(np.float32))
+                del sj, er
+            start += len(b.cells)
     heights: list[np.ndarray] = []
     has_wall = any(g.name == "wall" for g in mesh.groups)
     for size in (3, 4):
         table = face_table(mesh, size)
         if table is None:
             continue
+        if grid is None:
+            angle = max(angle, _table_largest_angle(mesh, table, centres))
         partner = table.partner
-        for lo in range(0, len(partner), SUB * 2):
-            own = np.arange(lo, min(lo + SUB * 2, len(partner)), dtype=np.int64)
-            other = partner[lo:lo + len(own)].astype(np.int64)
-            first, second = own[other > own], other[other > own]
-            if len(first):
-                angle = max(angle, _largest_angle(mesh.points, table.nodes(first), centres,
-                                                  table.owner(first), table.owner(second)))
         boundary = np.flatnonzero(partner < 0)
-        wall = _wall_facets(mesh, size)
-        if wall is not None:  # boundary faces that pair with a wall facet
-            with_wall = pair_faces(np.concatenate([table.nodes(boundary), wall]))[: len(boundary)]
+        known = table.tags_of_boundary(mesh)  # from the tagging check, when it ran on these facets
+        if has_wall and known is not None:
+            boundary = boundary[known == next(g.tag for g in mesh.groups if g.name == "wall")]
+        elif has_wall:  # boundary faces that pair with a wall facet
+            with_wall = pair_faces(np.concatenate([table.nodes(boundary), _wall_facets(mesh, size)]))[: len(boundary)]
             boundary = boundary[with_wall >= 0]
         heights.append(_wall_heights(mesh, table, boundary))
     h = np.concatenate(heights) if heights else np.zeros(0)
