@@ -126,8 +126,8 @@ def test_a_face_pairing_that_misses_a_shared_face_is_refused(monkeypatch):
 
     good = faces.sweep_partner
 
-    def broken(grid, cells):
-        partner = good(grid, cells).copy()
+    def broken(grid, cells, proven=False):
+        partner = good(grid, cells, proven).copy()
         inner = int(np.flatnonzero(partner >= 0)[0])
         partner[partner[inner]] = -1
         partner[inner] = -1

@@ -19,6 +19,7 @@ import chanmesh.post.quality as quality
 from chanmesh.meshing.faces import face_table
 from chanmesh.meshing.hex import mesh_hex
 from chanmesh.meshing.model import ChannelMesh
+from chanmesh.meshing.sweep_grid import proven_grid
 from chanmesh.meshing.verify import check_boundary_tagging
 from chanmesh.post.quality_grid import grid_figures
 
@@ -47,7 +48,7 @@ def _general(mesh: ChannelMesh) -> dict:
 def test_grid_figures_equal_the_general_path_to_the_bit(case, jiggle):
     mesh = _mesh(case, jiggle)
     check_boundary_tagging(mesh)  # the wall cells then come from the check's groups, not a pairing
-    assert quality._grid(mesh) is not None  # the grid path is taken
+    assert proven_grid(mesh) is not None  # the grid path is taken
     assert face_table(mesh, 4).tags_of_boundary(mesh) is not None
     if case.startswith("chambers"):
         assert mesh.sweep.columns is not None and not mesh.sweep.columns.all()
@@ -63,7 +64,7 @@ def test_grid_scaled_jacobian_agrees_with_vtk_and_edge_ratio_with_its_definition
     # axes, not edges, so the edge ratio is checked against its definition: the longest of the
     # twelve edges over the shortest (numpy on the cells' own nodes).
     mesh = _mesh("spiral, trapezoid", 4e-6)
-    assert face_table(mesh, 4).from_grid
+    assert proven_grid(mesh) is not None
     chunks: list[np.ndarray] = []
     got = grid_figures(mesh.points, mesh.sweep, np.empty((mesh.n_volume_cells, 3)), 1000, chunks.append)
     assert [len(c) for c in chunks[:-1]] == [1000] * (len(chunks) - 1)  # chunks in cell order
@@ -91,7 +92,7 @@ def test_grid_non_orthogonality_of_a_sheared_straight_duct():
     x, y, z = k.ravel() * 1e-5, i.ravel() * 2e-5, j.ravel() * 3e-5
     mesh.points = np.column_stack([x + a * z, y, z])  # the grid's own node order
     q = quality.mesh_quality(mesh)
-    assert quality._grid(mesh) is not None
+    assert proven_grid(mesh) is not None
     assert q.non_orthogonality_max == pytest.approx(math.degrees(math.atan(a)), rel=1e-9)
     assert q.as_dict() == _general(mesh)
 
@@ -104,7 +105,7 @@ def test_cells_off_the_grid_take_the_general_path():
     order = np.random.default_rng(5).permutation(mesh.n_volume_cells)
     block = mesh.volumes[0]
     shuffled = dataclasses.replace(mesh, volumes=[dataclasses.replace(block, cells=block.cells[order], tags=block.tags[order])])
-    assert quality._grid(shuffled) is None
+    assert proven_grid(shuffled) is None
     got = quality.mesh_quality(shuffled).as_dict()
     for key in ("scaled_jacobian_min", "aspect_ratio_max", "non_orthogonality_max", "wall_cell_min", "wall_cell_max"):
         assert got[key] == expect[key], key

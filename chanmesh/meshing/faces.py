@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
-from chanmesh.meshing.sweep_grid import sweep_partner
+from chanmesh.meshing.sweep_grid import proven_grid, sweep_partner
 
 FACES = {
     "tetra": ([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]], []),
@@ -94,7 +94,6 @@ class FaceTable:
     size: int
     parts: list[_Part]
     partner: np.ndarray
-    from_grid: bool = False  # paired from the mesh's sweep grid, its cells proved to be the grid's
     boundary_tags: tuple[list[np.ndarray], np.ndarray] | None = None
     """Set by the tagging check (``verify``): the facet blocks' cell arrays it read, and the group
     tag of every boundary slot in slot order; valid while the mesh's facet arrays are those."""
@@ -242,10 +241,10 @@ def face_table(mesh: ChannelMesh, size: int) -> FaceTable | None:
     if n:
         table = FaceTable(size, parts, np.empty(0, np.int64))
         partner = None
-        if size == 4 and mesh.sweep is not None and len(arrays) == 1 and mesh.volumes[0].type == "hexahedron":
-            partner = sweep_partner(mesh.sweep, arrays[0])  # None unless the cells follow the grid
+        grid = proven_grid(mesh) if size == 4 else None
+        if grid is not None:
+            partner = sweep_partner(grid, arrays[0], proven=True)
         table.partner = _pair(table, n) if partner is None else partner
-        table.from_grid = partner is not None
     cache[size] = (arrays, table)
     return table
 

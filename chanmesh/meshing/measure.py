@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from chanmesh.meshing.grid_slabs import CORNERS, Chunker, NodeSlab, slabs
 from chanmesh.meshing.model import Block, ChannelMesh
+from chanmesh.meshing.sweep_grid import SweepGrid, proven_grid
 
 # Hexahedron split into six tetrahedra around the 0-6 diagonal (node order as in VTK/gmsh).
 _HEX_TETS = np.array([[0, 1, 2, 6], [0, 2, 3, 6], [0, 3, 7, 6], [0, 7, 4, 6], [0, 4, 5, 6], [0, 5, 1, 6]])
@@ -36,15 +38,7 @@ def _hex_volumes(points: np.ndarray, cells: np.ndarray) -> np.ndarray:
     (sum of r_a x r_b) . r_6 / 6 with r = p - p_0 (component rows, no (m, 6, 4) temporary)."""
     p0 = [points[cells[:, 0], d] for d in range(3)]
     r = {k: [points[cells[:, k], d] - p0[d] for d in range(3)] for k in (1, 2, 3, 4, 5, 6, 7)}
-    ring = (1, 2, 3, 7, 4, 5, 1)
-    sx = sy = sz = 0.0
-    for a, b in zip(ring[:-1], ring[1:]):
-        (ax, ay, az), (bx, by, bz) = r[a], r[b]
-        sx = sx + (ay * bz - az * by)
-        sy = sy + (az * bx - ax * bz)
-        sz = sz + (ax * by - ay * bx)
-    x6, y6, z6 = r[6]
-    return (sx * x6 + sy * y6 + sz * z6) / 6.0
+    return _ring_volumes(r)
 
 
 def facet_areas(points: np.ndarray, block: Block) -> np.ndarray:
@@ -61,12 +55,50 @@ CHUNK = 1 << 18
 """Cells measured per batch: bounds the temporaries at a few tens of MB."""
 
 
+def grid_volume_sums(points: np.ndarray, grid: SweepGrid, chunk: int) -> list[float]:
+    """Sums of the hexahedron volumes (``_hex_volumes``, the same operations in the same order)
+    of each run of ``chunk`` cells in cell order, read off the sweep grid (``grid_slabs``):
+    the partial sums ``group_measures`` adds, to the bit."""
+    numbers = None if grid.columns is None else grid.node_numbers()
+    mask = grid.column_mask()
+    sums: list[float] = []
+    chunks = Chunker(chunk, lambda v: sums.append(float(v.sum())))
+    for k0, k1 in slabs(grid):
+        slab = NodeSlab(points, grid, numbers, k0, k1)
+        p0 = slab.node(CORNERS[0])
+        r = {k: [x - y for x, y in zip(slab.node(CORNERS[k]), p0)] for k in (1, 2, 3, 4, 5, 6, 7)}
+        chunks.add(slab.cells(_ring_volumes(r), None if grid.columns is None else mask[k0:k1]))
+    chunks.finish()
+    return sums
+
+
+def _ring_volumes(r: dict[int, list[np.ndarray]]) -> np.ndarray:
+    """(sum of r_a x r_b over the ring) . r_6 / 6: ``_hex_volumes`` from corner vectors r."""
+    ring = (1, 2, 3, 7, 4, 5, 1)
+    sx = sy = sz = 0.0
+    for a, b in zip(ring[:-1], ring[1:]):
+        (ax, ay, az), (bx, by, bz) = r[a], r[b]
+        sx = sx + (ay * bz - az * by)
+        sy = sy + (az * bx - ax * bz)
+        sz = sz + (ax * by - ay * bx)
+    x6, y6, z6 = r[6]
+    return (sx * x6 + sy * y6 + sz * z6) / 6.0
+
+
 def group_measures(mesh: ChannelMesh) -> dict[str, float]:
     """Measured volume (dim 3) or area (dim 2) of every group, SI units (cells in batches, no
-    copy of a block whose cells all belong to the group)."""
+    copy of a block whose cells all belong to the group; a swept mesh's volumes read off its
+    grid when one group holds all its cells)."""
     out: dict[str, float] = {}
+    grid = proven_grid(mesh)
     for g in mesh.groups:
         blocks = mesh.volumes if g.dim == 3 else mesh.facets
+        if g.dim == 3 and grid is not None and bool(np.all(blocks[0].tags == g.tag)):
+            total = 0.0
+            for part in grid_volume_sums(mesh.points, grid, CHUNK):
+                total += part
+            out[g.name] = total
+            continue
         measure = cell_volumes if g.dim == 3 else facet_areas
         total = 0.0
         for b in blocks:

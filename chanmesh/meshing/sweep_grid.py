@@ -16,8 +16,12 @@ numbers are one-to-one with grid nodes), so the pairing is the same as the hash 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from chanmesh.meshing.model import ChannelMesh
 
 BATCH = 1 << 18
 """Cells rebuilt and compared per batch (bounds the temporaries at about 16 MB)."""
@@ -97,12 +101,29 @@ def cells_follow_grid(grid: SweepGrid, cells: np.ndarray) -> bool:
     return True
 
 
-def sweep_partner(grid: SweepGrid, cells: np.ndarray) -> np.ndarray | None:
+def proven_grid(mesh: "ChannelMesh") -> SweepGrid | None:
+    """``mesh.sweep`` when the mesh is one block of hexahedra that is exactly the grid's cell
+    array, else None. Proved once (``cells_follow_grid``) and kept on the mesh while its cell
+    array and grid stay the same objects; the face pairing, the quality figures and the volumes
+    then read the grid instead of the cells."""
+    grid = mesh.sweep
+    if grid is None or len(mesh.volumes) != 1 or mesh.volumes[0].type != "hexahedron":
+        return None
+    cells = mesh.volumes[0].cells
+    hit = mesh.__dict__.get("_proven_grid")
+    if hit is None or hit[0] is not cells or hit[1] is not grid:
+        hit = (cells, grid, cells_follow_grid(grid, cells))
+        mesh.__dict__["_proven_grid"] = hit
+    return grid if hit[2] else None
+
+
+def sweep_partner(grid: SweepGrid, cells: np.ndarray, proven: bool = False) -> np.ndarray | None:
     """Partner slot of every face slot (cell * 6 + local quad), -1 on the boundary, or None
-    when ``cells`` is not the grid's cell array (then pair by hashing instead).
+    when ``cells`` is not the grid's cell array (then pair by hashing instead); ``proven``:
+    the caller knows it is (``proven_grid``).
 
     int32 when the slots fit, as ``meshing.faces`` makes them."""
-    if not cells_follow_grid(grid, cells):
+    if not proven and not cells_follow_grid(grid, cells):
         return None
     nk, ni, nj = grid.shape
     mask = grid.column_mask()

@@ -14,7 +14,7 @@
   opposite node layer, for a tetrahedron its height over the facet). Without a ``wall``
   group (a file that lost its names) every boundary face is used and ``wall_source`` says so.
 
-A hexahedral mesh whose cells were proved to be its sweep grid's (``FaceTable.from_grid``)
+A hexahedral mesh whose cells were proved to be its sweep grid's (``sweep_grid.proven_grid``)
 takes ``post.quality_grid`` for the per-cell figures and the non-orthogonality: no gathers, the
 same bits. The wall facets among the boundary faces come from the tagging check's groups when
 it ran on the mesh (``FaceTable.tags_of_boundary``), else from pairing with the wall group.
@@ -29,7 +29,7 @@ import numpy as np
 
 from chanmesh.meshing.model import ChannelMesh
 from chanmesh.meshing.faces import FaceTable, face_table
-from chanmesh.meshing.sweep_grid import SweepGrid
+from chanmesh.meshing.sweep_grid import proven_grid
 from chanmesh.post.facepairs import pair_faces
 from chanmesh.post.quality_grid import grid_figures
 
@@ -199,15 +199,6 @@ def _wall_facets(mesh: ChannelMesh, size: int) -> np.ndarray | None:
     return np.concatenate(blocks) if blocks else np.zeros((0, size), np.int64)
 
 
-def _grid(mesh: ChannelMesh) -> SweepGrid | None:
-    """The mesh's sweep grid when its cells were proved to be the grid's (the face table was
-    paired from it), else None: then the figures take the general path."""
-    if mesh.sweep is None or len(mesh.volumes) != 1 or mesh.volumes[0].type != "hexahedron":
-        return None
-    table = face_table(mesh, 4)
-    return mesh.sweep if table is not None and table.from_grid else None
-
-
 def _batched_cell_figures(mesh: ChannelMesh, b, lo: int, end: int, centres: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Scaled Jacobian and edge ratio of cells lo..end of block ``b`` (general path); fills
     their rows of ``centres`` (the block's cells start at row 0 of ``centres``)."""
@@ -241,7 +232,7 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     jac_counts = np.zeros(len(JACOBIAN_EDGES) - 1, np.int64)
     ratios: list[np.ndarray] = []
     centres = np.empty((mesh.n_volume_cells, 3))  # node mean of every cell
-    grid = _grid(mesh)
+    grid = proven_grid(mesh)
 
     def take(sj: np.ndarray) -> None:  # the scaled Jacobians of one chunk of cells
         nonlocal jac_min, jac_sum

@@ -4,15 +4,15 @@ Why: the general path (``post.quality``) gathers the eight nodes of every cell a
 twelve edges, and gathers the four nodes of every interior face. A swept mesh is a tensor grid
 (``meshing.sweep_grid``): neighbouring cells share their nodes and edges, so here every grid
 edge is formed once (three fields: along, across, up) and a cell's corners, edges and faces are
-array slices of a slab of node layers, with no gathers.
+slices of a slab of node layers (``meshing.grid_slabs``), with no gathers.
 
 Each figure is made of the same floating-point operations, in the same order, as the general
 path, so the figures are identical to the bit (``tests/test_quality_grid.py`` compares the
 two). A corner's edge that runs against the grid is the grid edge negated, and negation is
 exact, so a corner Jacobian is the grid edges' determinant times the sign of the three; a face
 normal from its two diagonals is the same vector, up to an exact sign, whichever corner a face
-table starts at. Used only for meshes whose cells were proved to be the grid's (the face table
-was paired from it: ``FaceTable.from_grid``).
+table starts at. Used only for meshes whose cells were proved to be the grid's
+(``sweep_grid.proven_grid``).
 
 Units: lengths in metres; the scaled Jacobian and the edge ratio are dimensionless.
 """
@@ -20,34 +20,23 @@ Units: lengths in metres; the scaled Jacobian and the edge ratio are dimensionle
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Iterator
+from typing import Callable
 
 import numpy as np
 
+from chanmesh.meshing.grid_slabs import CORNERS, Chunker, NodeSlab, slabs
 from chanmesh.meshing.sweep_grid import SweepGrid
-
-SLAB_CELLS = 32_768
-"""Cells per slab of node layers (at least one layer): bounds the temporaries at a few MB."""
-
-_OFFSETS = ((0, 0, 0), (0, 1, 0), (1, 1, 0), (1, 0, 0), (0, 0, 1), (0, 1, 1), (1, 1, 1), (1, 0, 1))
-"""Corner offsets (along, across, up) of the VTK hexahedron, as ``SweepGrid.node_offsets``."""
 
 _HEX_CORNERS = ((0, 1, 3, 4), (1, 2, 0, 5), (2, 3, 1, 6), (3, 0, 2, 7),
                 (4, 7, 5, 0), (5, 4, 6, 1), (6, 5, 7, 2), (7, 6, 4, 3))
 """Corner, then its three edge ends (right-handed): ``post.quality._HEX_CORNERS``."""
 
+
 def _edge(c: int, n: int) -> tuple[int, tuple[int, int, int], int]:
     """Grid direction (0 along, 1 across, 2 up), base offset and sign of edge c -> n."""
-    a, b = _OFFSETS[c], _OFFSETS[n]
+    a, b = CORNERS[c], CORNERS[n]
     axis = next(d for d in range(3) if a[d] != b[d])
     return axis, tuple(min(x, y) for x, y in zip(a, b)), 1 if b[axis] > a[axis] else -1
-
-
-def _slabs(grid: SweepGrid) -> Iterator[tuple[int, int]]:
-    nk, ni, nj = grid.shape
-    step = max(1, SLAB_CELLS // max(1, ni * nj))
-    for k0 in range(0, nk, step):
-        yield k0, min(nk, k0 + step)
 
 
 def _length(v: list[np.ndarray]) -> np.ndarray:
@@ -63,47 +52,14 @@ def _ratio(num: np.ndarray, den: np.ndarray) -> np.ndarray:
     return np.divide(num, den, out=np.zeros_like(num), where=den > 0)
 
 
-class _Slab:
-    """Cell layers k0..k1 of the grid (figures), with their node layers and one more cell layer
-    when there is one (its centres, for the faces to the next slab).
-
-    Every array is flat over the slab's *node positions* (k, i, j) -> (k (ni + 1) + i)(nj + 1) + j:
-    a cell is read at the position of its corner 0, its corner (dk, di, dj) at that position
-    plus ``shift(dk, di, dj)``, so corners, edges and faces are contiguous slices and numpy
-    runs long loops. Positions with i = ni or j = nj hold no cell; their values are never used.
-    Nodes of absent columns are NaN."""
+class _Slab(NodeSlab):
+    """Cell layers k0..k1 of the grid, with their node layers and one more cell layer when
+    there is one (k2 = k1 + 1: its centres, for the faces to the next slab); edge fields made
+    once per grid direction (``field``)."""
 
     def __init__(self, points: np.ndarray, grid: SweepGrid, numbers: np.ndarray | None, k0: int, k1: int) -> None:
-        nk, ni, nj = grid.shape
-        self.k0, self.k1, self.k2 = k0, k1, min(k1 + 1, nk)  # cells k0..k1-1 figured, k1..k2-1 centred
-        self.layer = (ni + 1) * (nj + 1)
-        self.ni, self.nj = ni, nj
-        self.m = (k1 - k0) * self.layer  # positions of the slab's cells
-        size = self.m + 3 * self.layer + nj + 2  # room for every shift from every position
-        real = (self.k2 - k0 + 1) * self.layer  # node layers k0..k2
-        self.p = []
-        index = None if numbers is None else numbers[k0 * self.layer:k0 * self.layer + real]
-        for d in range(3):
-            x = np.full(size, np.nan)
-            if index is None:  # every column kept: the nodes are the full grid's, in its order
-                x[:real] = points[k0 * self.layer:k0 * self.layer + real, d]
-            else:
-                have = index >= 0
-                x[:real][have] = points[index[have], d]
-            self.p.append(x)
+        super().__init__(points, grid, numbers, k0, k1, min(k1 + 1, grid.shape[0]))
         self._fields: dict[int, tuple[list[np.ndarray], np.ndarray]] = {}
-
-    def shift(self, offset: tuple[int, int, int]) -> int:
-        dk, di, dj = offset
-        return dk * self.layer + di * (self.nj + 1) + dj
-
-    def at(self, array: np.ndarray, offset: tuple[int, int, int], count: int | None = None) -> np.ndarray:
-        """``count`` positions (default: the slab's cells) of ``array``, shifted by ``offset``."""
-        s = self.shift(offset)
-        return array[s:s + (self.m if count is None else count)]
-
-    def node(self, offset: tuple[int, int, int]) -> list[np.ndarray]:
-        return [self.at(x, offset) for x in self.p]
 
     def field(self, axis: int) -> tuple[list[np.ndarray], np.ndarray]:
         """Edge vectors of one grid direction (0 along, 1 across, 2 up) at every position from
@@ -154,17 +110,12 @@ class _Slab:
         (NaN past the last layer of the grid)."""
         out = []
         for x in self.p:
-            total = self.at(x, _OFFSETS[0], self.m + self.layer).copy()
-            for corner in _OFFSETS[1:]:
+            total = self.at(x, CORNERS[0], self.m + self.layer).copy()
+            for corner in CORNERS[1:]:
                 total += self.at(x, corner, self.m + self.layer)
             total /= 8
             out.append(total)
         return out
-
-    def cells(self, values: np.ndarray, keep: np.ndarray | None) -> np.ndarray:
-        """Per-position values of the slab's cells -> the mesh's cell order."""
-        grid = values[:self.m].reshape(self.k1 - self.k0, self.ni + 1, self.nj + 1)[:, :self.ni, :self.nj]
-        return grid.reshape(-1) if keep is None else grid[keep].reshape(-1)
 
     def smallest_cosine(self, centres: list[np.ndarray], keep: np.ndarray) -> float:
         """Smallest |cos| between an interior face's normal and the line joining its cells'
@@ -225,14 +176,14 @@ def grid_figures(points: np.ndarray, grid: SweepGrid, centres: np.ndarray, chunk
     mask = grid.column_mask()
     n = len(centres)
     ratio = np.empty(n, np.float32)
-    pending: list[np.ndarray] = []  # scaled Jacobians not yet handed over (``held`` cells)
-    start, held, smallest, longest = 0, 0, np.inf, 0.0
-    for k0, k1 in _slabs(grid):
+    chunks = Chunker(chunk, take_jacobian)
+    start, smallest, longest = 0, np.inf, 0.0
+    for k0, k1 in slabs(grid):
         slab = _Slab(points, grid, numbers, k0, k1)
         keep = None if grid.columns is None else mask[k0:k1]
         sj = slab.cells(slab.scaled_jacobian(), keep)
-        pending.append(sj)
-        held, stop = held + len(sj), start + len(sj)
+        chunks.add(sj)
+        stop = start + len(sj)
         er = slab.cells(slab.edge_ratio(), keep)
         if len(er):
             longest = max(longest, float(er.max()))
@@ -242,11 +193,7 @@ def grid_figures(points: np.ndarray, grid: SweepGrid, centres: np.ndarray, chunk
             centres[start:stop, d] = slab.cells(mean, keep)
         smallest = min(smallest, slab.smallest_cosine(means, mask[k0:slab.k2]))
         start = stop
-        while held >= chunk or (start == n and held):
-            joined = np.concatenate(pending)
-            take_jacobian(joined[:chunk].copy())
-            rest = joined[chunk:]
-            pending, held = ([rest], len(rest)) if len(rest) else ([], 0)
+    chunks.finish()
     if start != n:
         raise ValueError(f"the grid has {start} cells, the mesh {n}")
     angle = 0.0 if smallest == np.inf else float(np.degrees(np.arccos(np.clip(smallest, 0.0, 1.0))))
