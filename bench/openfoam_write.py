@@ -11,6 +11,7 @@ block mesher on the same grid, measured in one run.
    its manifest. blockMesh needs WM_PROJECT_DIR (set to /usr/share/openfoam when missing).
 
     PYTHONPATH=. python bench/openfoam_write.py [--across 64 --along 600 --high 26] [--skip-race]
+        [--race-repeats N] [--skip-writer-speed]
 
 The channel is a made-up bench design (300 x 60 um, radius 1.5 mm), not a real device.
 """
@@ -157,11 +158,15 @@ def main() -> None:
     ap.add_argument("--along", type=int, default=600)
     ap.add_argument("--high", type=int, default=26)
     ap.add_argument("--skip-race", action="store_true")
+    ap.add_argument("--race-repeats", type=int, default=1, help="run the race this many times (default 1)")
+    ap.add_argument("--skip-writer-speed", action="store_true", help="only the race")
     a = ap.parse_args()
     root = Path(tempfile.mkdtemp(prefix="chanmesh-ofbench-"))
     try:
-        if not a.skip_race:  # first, while this process is small: a child's ru_maxrss starts from
-            race(a, root)    # its parent's resident size at the fork (Linux keeps it across exec)
+        for _ in range(0 if a.skip_race else a.race_repeats):  # first, while this process is small: a
+            race(a, root)  # child's ru_maxrss starts from its parent's size at the fork (kept across exec)
+        if a.skip_writer_speed:
+            return
         w = writer_speed(a.across, a.along, a.high, root / "speed")
         n = w["cells"]
         print(f"grid {a.across} x {a.along} x {a.high} = {n:,} hexahedra (mesh generation {w['mesh_s']:.2f} s)")
