@@ -127,7 +127,7 @@ def race(a: argparse.Namespace, root: Path) -> None:
     along, across, high = plan_hex(loads_design(text)).shape
     env = {**os.environ, "WM_PROJECT_DIR": os.environ.get("WM_PROJECT_DIR", "/usr/share/openfoam")}
     case = root / "blockmesh"
-    (case / "system").mkdir(parents=True)
+    (case / "system").mkdir(parents=True)  # makes ``root`` too
     (case / "system" / "controlDict").write_text(CONTROL)
     (case / "system" / "blockMeshDict").write_text(block_mesh_dict(across, along, high))
     design = root / "race.toml"
@@ -163,8 +163,8 @@ def main() -> None:
     a = ap.parse_args()
     root = Path(tempfile.mkdtemp(prefix="chanmesh-ofbench-"))
     try:
-        for _ in range(0 if a.skip_race else a.race_repeats):  # first, while this process is small: a
-            race(a, root)  # child's ru_maxrss starts from its parent's size at the fork (kept across exec)
+        for i in range(0 if a.skip_race else a.race_repeats):  # first, while this process is small: a
+            race(a, root / f"race{i}")  # child's ru_maxrss starts from its parent's size at the fork
         if a.skip_writer_speed:
             return
         w = writer_speed(a.across, a.along, a.high, root / "speed")
