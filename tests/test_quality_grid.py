@@ -66,7 +66,7 @@ def test_grid_scaled_jacobian_agrees_with_vtk_and_edge_ratio_with_its_definition
     mesh = _mesh("spiral, trapezoid", 4e-6)
     assert proven_grid(mesh) is not None
     chunks: list[np.ndarray] = []
-    got = grid_figures(mesh.points, mesh.sweep, np.empty((mesh.n_volume_cells, 3)), 1000, chunks.append)
+    got = grid_figures(mesh.points, mesh.sweep, mesh.n_volume_cells, 1000, chunks.append)
     assert [len(c) for c in chunks[:-1]] == [1000] * (len(chunks) - 1)  # chunks in cell order
     sj = np.concatenate(chunks)
     cells = mesh.volumes[0].cells

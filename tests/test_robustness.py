@@ -253,6 +253,47 @@ def test_disk_full_or_interrupt_mid_write_keeps_previous_output(tmp_path, monkey
     assert read_manifest(out)["design"]["mesh"]["cells_across"] == 3
 
 
+@pytest.mark.parametrize("failing", ["vtu", "xdmf"])
+def test_a_failure_beside_the_hdf5_writer_keeps_previous_output(tmp_path, monkeypatch, failing):
+    """XDMF is written in a thread of its own beside the other formats (build._write_formats).
+    Whichever side fails (here an interrupt in the VTU writer while a slow XDMF write is still
+    running, or the XDMF writer itself), the build waits for that thread before it removes its
+    staging folder: the previous output is intact, nothing is left half-written, and no writer
+    thread runs on."""
+    import threading
+    import time
+
+    import chanmesh.writers.xdmf as xdmf_writer
+
+    design = design_from_dict(__import__("tomllib").loads(GOOD))
+    out = tmp_path / "o"
+    formats = ("msh", "xdmf", "vtu")
+    build(design, out, formats=formats)
+    before = _snapshot(out)
+    real = xdmf_writer.write_xdmf
+
+    def slow_xdmf(mesh, folder, stem, options):
+        time.sleep(0.5)  # still writing when the other side fails
+        if failing == "xdmf":
+            raise KeyboardInterrupt
+        return real(mesh, folder, stem, options)
+
+    def failing_vtu(mesh, folder, stem, options):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(xdmf_writer, "write_xdmf", slow_xdmf)
+    if failing == "vtu":
+        monkeypatch.setattr(vtu_writer, "write_vtu", failing_vtu)
+    finer = design_from_dict({**__import__("tomllib").loads(GOOD), "mesh": {"cells_across": 4}})
+    with pytest.raises(KeyboardInterrupt):
+        build(finer, out, formats=formats)
+    assert not [t for t in threading.enumerate() if t.name.startswith("chanmesh-writer")]
+    time.sleep(0.2)
+    assert _snapshot(out) == before
+    assert not any(p.name.startswith(STAGE_PREFIX) for p in out.iterdir())
+    assert read_manifest(out)["design"]["mesh"]["cells_across"] == 3
+
+
 def test_interrupted_atomic_write_leaves_old_file(tmp_path, monkeypatch):
     target = tmp_path / "summary.csv"
     target.write_text("old\n")

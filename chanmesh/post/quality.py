@@ -231,8 +231,8 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
     jac_min, jac_sum, aspect = np.inf, 0.0, 0.0
     jac_counts = np.zeros(len(JACOBIAN_EDGES) - 1, np.int64)
     ratios: list[np.ndarray] = []
-    centres = np.empty((mesh.n_volume_cells, 3))  # node mean of every cell
     grid = proven_grid(mesh)
+    centres = np.empty((0 if grid is not None else mesh.n_volume_cells, 3))  # node means (general path)
 
     def take(sj: np.ndarray) -> None:  # the scaled Jacobians of one chunk of cells
         nonlocal jac_min, jac_sum
@@ -240,7 +240,7 @@ def mesh_quality(mesh: ChannelMesh) -> Quality:
         jac_counts[:] += np.histogram(np.clip(sj, -1.0, 1.0), JACOBIAN_EDGES)[0]
 
     if grid is not None:  # one block of hexahedra on its sweep grid
-        whole = grid_figures(mesh.points, grid, centres, CHUNK, take)
+        whole = grid_figures(mesh.points, grid, mesh.n_volume_cells, CHUNK, take)
         aspect, angle, ratios = whole.edge_ratio_max, whole.non_orthogonality, [whole.edge_ratio]
         del whole
     else:

@@ -165,16 +165,15 @@ class GridFigures:
     non_orthogonality: float  # degrees
 
 
-def grid_figures(points: np.ndarray, grid: SweepGrid, centres: np.ndarray, chunk: int,
+def grid_figures(points: np.ndarray, grid: SweepGrid, n: int, chunk: int,
                  take_jacobian: Callable[[np.ndarray], None]) -> GridFigures:
     """The scaled Jacobian and edge ratio of every cell and the non-orthogonality (the largest
-    angle between an interior face's normal and the line joining the centres of its two cells);
-    fills ``centres`` (m, 3) with the cells' node means. The scaled Jacobians are handed to
+    angle between an interior face's normal and the line joining the centres of its two cells)
+    of the ``n`` cells. The cell centres live only slab by slab. The scaled Jacobians are handed to
     ``take_jacobian`` in fresh arrays of ``chunk`` cells in cell order (the last one shorter),
     as the general path sums them. Identical to the bit to ``post.quality``'s general path."""
     numbers = None if grid.columns is None else grid.node_numbers()
     mask = grid.column_mask()
-    n = len(centres)
     ratio = np.empty(n, np.float32)
     chunks = Chunker(chunk, take_jacobian)
     start, smallest, longest = 0, np.inf, 0.0
@@ -188,10 +187,7 @@ def grid_figures(points: np.ndarray, grid: SweepGrid, centres: np.ndarray, chunk
         if len(er):
             longest = max(longest, float(er.max()))
         ratio[start:stop] = er
-        means = slab.node_means()
-        for d, mean in enumerate(means):
-            centres[start:stop, d] = slab.cells(mean, keep)
-        smallest = min(smallest, slab.smallest_cosine(means, mask[k0:slab.k2]))
+        smallest = min(smallest, slab.smallest_cosine(slab.node_means(), mask[k0:slab.k2]))
         start = stop
     chunks.finish()
     if start != n:

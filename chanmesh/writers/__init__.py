@@ -36,6 +36,8 @@ class Format:
     variant: str = ""  # passed on as ``file_format`` (meshio pass-through formats)
     check: str = ""  # optional ``check(design)`` in ``module``, run before meshing (refuse early)
     reads_face_table: bool = False  # pairs faces (meshing.faces): the build keeps the table for it
+    beside: bool = False  # its heavy part runs without the GIL (HDF5's compression): the build
+    # writes it in a thread of its own, beside the other formats
 
     def _function(self) -> Callable[..., list[Path]]:
         fn = getattr(importlib.import_module(self.module), self.function)
@@ -64,7 +66,8 @@ FORMATS: dict[str, Format] = {
     f.name: f
     for f in (
         Format("msh", ".msh", _G, "write_msh", "gmsh MSH 4.1 (or 2.2 with --msh-version), named physical groups", True),
-        Format("xdmf", ".xdmf", "chanmesh.writers.xdmf", "write_xdmf", "XDMF + HDF5: cells and facets with integer tags, name map in JSON", False),
+        Format("xdmf", ".xdmf", "chanmesh.writers.xdmf", "write_xdmf", "XDMF + HDF5: cells and facets with integer tags, name map in JSON", False,
+               beside=True),
         Format("vtu", ".vtu", "chanmesh.writers.vtu", "write_vtu", "VTK unstructured grid with a 'group' cell array, for any VTK viewer", False),
         Format("su2", ".su2", _G, "write_su2", "SU2 native mesh (gmsh's writer), markers named after the groups", True),
         Format("med", ".med", _G, "write_med", "MED (gmsh's writer), groups named", True),
