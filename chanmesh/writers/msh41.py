@@ -104,8 +104,9 @@ def _int_lines(values: np.ndarray, end: bytes) -> bytes:
 def _float_slots(values: np.ndarray, sep: bytes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """``%.16g`` of each distinct value (by bit pattern, so -0.0 stays "-0"), right-aligned in
     slots of a multiple of 8 characters, each ending in ``sep``: the characters (u, S), which
-    of them to keep (u, S), and the row of each value (m,)."""
-    bits, inverse = np.unique(np.ascontiguousarray(values, np.float64).view(np.int64), return_inverse=True)
+    of them to keep (u, S), and the distinct bit patterns, sorted (u,) int64, by which a batch
+    of values finds its rows (``_row_of``; no inverse of every value is kept: 8 MB a million)."""
+    bits = np.unique(np.ascontiguousarray(values, np.float64).view(np.int64))
     distinct = bits.view(np.float64)
     text = np.frombuffer(((f"%.16g{sep.decode()}" * len(distinct)) % tuple(distinct.tolist())).encode(), np.uint8)
     lengths = np.diff(np.concatenate([[-1], np.flatnonzero(text == sep[0])]))  # with the separator
@@ -113,7 +114,12 @@ def _float_slots(values: np.ndarray, sep: bytes) -> tuple[np.ndarray, np.ndarray
     keep = np.arange(width) >= (width - lengths)[:, None]
     chars = np.zeros((len(distinct), width), np.uint8)
     chars[keep] = text
-    return chars, keep, inverse.reshape(-1)
+    return chars, keep, bits
+
+
+def _row_of(bits: np.ndarray, values: np.ndarray) -> np.ndarray:
+    """Row of each value in ``_float_slots``' tables (its bit pattern among the sorted ones)."""
+    return np.searchsorted(bits, np.ascontiguousarray(values, np.float64).view(np.int64))
 
 
 def _g(x: float) -> str:
@@ -159,8 +165,9 @@ def _write_nodes(f: BinaryIO, points: np.ndarray) -> None:
         f.write(_int_lines(np.arange(lo + 1, min(lo + BATCH * 4, n) + 1)[:, None], b"\n"))
     tables = [_float_slots(points[:, k], sep) for k, sep in enumerate((b" ", b" ", b"\n"))]
     for lo in range(0, n, BATCH):
-        text = np.concatenate([_rows(chars, inverse[lo:lo + BATCH]) for chars, _, inverse in tables], axis=1)
-        keep = np.concatenate([_rows(kept, inverse[lo:lo + BATCH]) for _, kept, inverse in tables], axis=1)
+        rows = [_row_of(bits, points[lo:lo + BATCH, k]) for k, (_, _, bits) in enumerate(tables)]
+        text = np.concatenate([_rows(chars, r) for (chars, _, _), r in zip(tables, rows)], axis=1)
+        keep = np.concatenate([_rows(kept, r) for (_, kept, _), r in zip(tables, rows)], axis=1)
         f.write(text[keep].tobytes())
 
 
