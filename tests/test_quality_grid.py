@@ -110,3 +110,17 @@ def test_cells_off_the_grid_take_the_general_path():
     for key in ("scaled_jacobian_min", "aspect_ratio_max", "non_orthogonality_max", "wall_cell_min", "wall_cell_max"):
         assert got[key] == expect[key], key
     assert got["scaled_jacobian_mean"] == pytest.approx(expect["scaled_jacobian_mean"], rel=1e-12)
+
+
+def test_wall_groups_from_the_check_are_dropped_when_the_facets_change():
+    """The check leaves each boundary face's group on the face table; once a facet block is
+    given a new tag array (here a copy, as any retagging makes) those groups are not read: the
+    wall cells are found by pairing, as without the check, with the same figures."""
+    mesh = _mesh("spiral, trapezoid")
+    check_boundary_tagging(mesh)
+    table = face_table(mesh, 4)
+    assert table.tags_of_boundary(mesh) is not None
+    block = mesh.facets[0]
+    mesh.facets[0] = dataclasses.replace(block, tags=block.tags.copy())
+    assert table.tags_of_boundary(mesh) is None
+    assert quality.mesh_quality(mesh).as_dict() == _general(mesh)

@@ -95,8 +95,9 @@ class FaceTable:
     parts: list[_Part]
     partner: np.ndarray
     boundary_tags: tuple[list[np.ndarray], np.ndarray] | None = None
-    """Set by the tagging check (``verify``): the facet blocks' cell arrays it read, and the group
-    tag of every boundary slot in slot order; valid while the mesh's facet arrays are those."""
+    """Set by the tagging check (``verify``): the facet blocks' cell and tag arrays it read, and
+    the group tag of every boundary slot in slot order; valid while the mesh's facet arrays are
+    those same objects (a block given new cells or new tags drops it)."""
 
     def tags_of_boundary(self, mesh: ChannelMesh) -> np.ndarray | None:
         """Group tag of every boundary slot (slot order), if the check found them for the
@@ -104,7 +105,7 @@ class FaceTable:
         if self.boundary_tags is None:
             return None
         arrays, tags = self.boundary_tags
-        now = [b.cells for b in mesh.facets]
+        now = [a for b in mesh.facets for a in (b.cells, b.tags)]
         same = len(arrays) == len(now) and all(x is y for x, y in zip(arrays, now))
         return tags if same else None
 

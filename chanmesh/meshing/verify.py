@@ -69,7 +69,8 @@ def check_boundary_tagging(mesh: ChannelMesh) -> dict[str, int]:
         counts["boundary_facets"] += len(boundary)
         partner = _match(boundary, tagged, ftype)
         if table is not None:  # each boundary slot's group, for the quality figures' wall cells
-            table.boundary_tags = ([b.cells for b in mesh.facets], tags[partner[:len(boundary)] - len(boundary)])
+            read = [a for b in mesh.facets for a in (b.cells, b.tags)]
+            table.boundary_tags = (read, tags[partner[:len(boundary)] - len(boundary)])
     return counts
 
 
