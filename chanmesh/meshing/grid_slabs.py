@@ -14,7 +14,7 @@ Units: the mesh's (metres).
 
 from __future__ import annotations
 
-from typing import Callable, Iterator
+from typing import Callable, Iterator, TypeVar
 
 import numpy as np
 
@@ -39,13 +39,17 @@ def slabs(grid: SweepGrid) -> Iterator[tuple[int, int]]:
 class NodeSlab:
     """Node coordinates of node layers k0..k2 (k2 >= k1) as three flat arrays ``p`` over the
     slab's positions, with room past the end for every shift from the positions of layers
-    k0..k1 (``m`` positions) and one more layer."""
+    k0..k1 (``m`` positions) and one more layer. ``columns``: the grid's (k2 - k0, ni) columns
+    that hold cells from layer k0 on; ``keep``: those of the slab's cells, None when the grid
+    keeps every column."""
 
-    def __init__(self, points: np.ndarray, grid: SweepGrid, numbers: np.ndarray | None, k0: int, k1: int,
-                 k2: int | None = None) -> None:
+    def __init__(self, points: np.ndarray, grid: SweepGrid, numbers: np.ndarray | None, mask: np.ndarray,
+                 k0: int, k1: int, k2: int | None = None) -> None:
         _, ni, nj = grid.shape
         self.k0, self.k1, self.k2 = k0, k1, k1 if k2 is None else k2
         self.ni, self.nj = ni, nj
+        self.columns = mask[k0:self.k2]
+        self.keep = None if grid.columns is None else mask[k0:k1]
         self.layer = (ni + 1) * (nj + 1)
         self.m = (k1 - k0) * self.layer
         size = self.m + 3 * self.layer + nj + 2
@@ -75,11 +79,22 @@ class NodeSlab:
         """Corner ``offset`` of every cell position, three components."""
         return [self.at(x, offset) for x in self.p]
 
-    def cells(self, values: np.ndarray, keep: np.ndarray | None) -> np.ndarray:
-        """Per-position values of the slab's cells -> the mesh's cell order; ``keep``: the
-        slab's (k1 - k0, ni) columns that hold cells, None for all."""
+    def cells(self, values: np.ndarray) -> np.ndarray:
+        """Per-position values of the slab's cells -> the mesh's cell order (``keep``)."""
         grid = values[:self.m].reshape(self.k1 - self.k0, self.ni + 1, self.nj + 1)[:, :self.ni, :self.nj]
-        return grid.reshape(-1) if keep is None else grid[keep].reshape(-1)
+        return grid.reshape(-1) if self.keep is None else grid[self.keep].reshape(-1)
+
+
+Slab = TypeVar("Slab", bound=NodeSlab)
+
+
+def walk(points: np.ndarray, grid: SweepGrid, make: Callable[..., Slab] = NodeSlab) -> Iterator[Slab]:
+    """The grid's slabs in cell order, each made by ``make(points, grid, numbers, mask, k0, k1)``
+    (``NodeSlab`` or a subclass), with the node numbering and column mask made once."""
+    numbers = None if grid.columns is None else grid.node_numbers()
+    mask = grid.column_mask()
+    for k0, k1 in slabs(grid):
+        yield make(points, grid, numbers, mask, k0, k1)
 
 
 class Chunker:

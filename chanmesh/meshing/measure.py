@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from chanmesh.meshing.grid_slabs import CORNERS, Chunker, NodeSlab, slabs
+from chanmesh.meshing.grid_slabs import CORNERS, Chunker, walk
 from chanmesh.meshing.model import Block, ChannelMesh
 from chanmesh.meshing.sweep_grid import SweepGrid, proven_grid
 
@@ -59,15 +59,12 @@ def grid_volume_sums(points: np.ndarray, grid: SweepGrid, chunk: int) -> list[fl
     """Sums of the hexahedron volumes (``_hex_volumes``, the same operations in the same order)
     of each run of ``chunk`` cells in cell order, read off the sweep grid (``grid_slabs``):
     the partial sums ``group_measures`` adds, to the bit."""
-    numbers = None if grid.columns is None else grid.node_numbers()
-    mask = grid.column_mask()
     sums: list[float] = []
     chunks = Chunker(chunk, lambda v: sums.append(float(v.sum())))
-    for k0, k1 in slabs(grid):
-        slab = NodeSlab(points, grid, numbers, k0, k1)
+    for slab in walk(points, grid):
         p0 = slab.node(CORNERS[0])
         r = {k: [x - y for x, y in zip(slab.node(CORNERS[k]), p0)] for k in (1, 2, 3, 4, 5, 6, 7)}
-        chunks.add(slab.cells(_ring_volumes(r), None if grid.columns is None else mask[k0:k1]))
+        chunks.add(slab.cells(_ring_volumes(r)))
     chunks.finish()
     return sums
 

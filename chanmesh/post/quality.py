@@ -32,23 +32,13 @@ from chanmesh.meshing.faces import FaceTable, face_table
 from chanmesh.meshing.sweep_grid import proven_grid
 from chanmesh.post.facepairs import pair_faces
 from chanmesh.post.quality_grid import grid_figures
+from chanmesh.post.quality_kernels import (
+    EDGES, HEX_CORNERS, WEDGE_CORNERS, axes_jacobian, corner_minimum, det, face_cosines, length,
+    longest_over_shortest, node_mean, ratio,
+)
 
 CHUNK = 400_000  # cells per sum of the scaled Jacobian (the grouping fixes the mean to the last bit)
 SUB = 25_000  # cells per batch of geometry: bounds the temporaries at a few tens of MB (50_000: 9 MB more, no faster)
-
-_HEX_CORNERS = np.array([
-    [0, 1, 3, 4], [1, 2, 0, 5], [2, 3, 1, 6], [3, 0, 2, 7],
-    [4, 7, 5, 0], [5, 4, 6, 1], [6, 5, 7, 2], [7, 6, 4, 3],
-])  # corner, then its three edge ends (right-handed)
-_WEDGE_CORNERS = np.array([
-    [0, 1, 2, 3], [1, 2, 0, 4], [2, 0, 1, 5], [3, 5, 4, 0], [4, 3, 5, 1], [5, 4, 3, 2],
-])
-_EDGES = {
-    "tetra": [(0, 1), (1, 2), (2, 0), (0, 3), (1, 3), (2, 3)],
-    "hexahedron": [(0, 1), (1, 2), (2, 3), (3, 0), (4, 5), (5, 6), (6, 7), (7, 4), (0, 4), (1, 5), (2, 6), (3, 7)],
-    "wedge": [(0, 1), (1, 2), (2, 0), (3, 4), (4, 5), (5, 3), (0, 3), (1, 4), (2, 5)],
-}
-
 
 @dataclass(frozen=True)
 class Quality:
@@ -77,37 +67,15 @@ class _CellGeometry:
         self.p = np.stack([points[:, d][cells.T] for d in range(3)])  # (3, k, m)
         self._edges: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]] = {}
 
-    def edge(self, i: int, j: int) -> tuple[np.ndarray, np.ndarray]:
-        """Vector from node i to node j, (3, m), and its length, (m,)."""
+    def edge(self, i: int, j: int) -> tuple[np.ndarray, np.ndarray, int]:
+        """Edge i -> j as ``quality_kernels.Edge``: the vector between the two nodes, (3, m), made
+        once per pair from the lower node to the higher, its length (m,) and the sign that orients it."""
         key = (min(i, j), max(i, j))
         if key not in self._edges:
             v = self.p[:, key[1]] - self.p[:, key[0]]
-            self._edges[key] = (v, np.sqrt(v[0] * v[0] + v[1] * v[1] + v[2] * v[2]))
-        v, length = self._edges[key]
-        return (v if i < j else -v), length
-
-
-def _det(a: np.ndarray, b: np.ndarray, c: np.ndarray) -> np.ndarray:
-    """det[a, b, c] = (a x b) . c for (3, m) component rows."""
-    return (a[1] * b[2] - a[2] * b[1]) * c[0] + (a[2] * b[0] - a[0] * b[2]) * c[1] + (a[0] * b[1] - a[1] * b[0]) * c[2]
-
-
-def _ratio(num: np.ndarray, den: np.ndarray) -> np.ndarray:
-    return np.divide(num, den, out=np.zeros_like(num), where=den > 0)
-
-
-def _corner_minimum(g: _CellGeometry, table: np.ndarray) -> np.ndarray:
-    """min over corners of the normalised corner Jacobian det[e1, e2, e3] / (|e1||e2||e3|)."""
-    out = None
-    for c, a, b, d in table:
-        (ea, la), (eb, lb), (ed, ld) = g.edge(c, a), g.edge(c, b), g.edge(c, d)
-        value = _ratio(_det(ea, eb, ed), la * lb * ld)
-        out = value if out is None else np.minimum(out, value)
-    return out
-
-
-def _length(v: np.ndarray) -> np.ndarray:
-    return np.sqrt(v[0] * v[0] + v[1] * v[1] + v[2] * v[2])
+            self._edges[key] = (v, length(v))
+        v, size = self._edges[key]
+        return v, size, 1 if i < j else -1
 
 
 def _scaled_jacobian(g: _CellGeometry, cell_type: str) -> np.ndarray:
@@ -117,27 +85,23 @@ def _scaled_jacobian(g: _CellGeometry, cell_type: str) -> np.ndarray:
         x1 = (p[:, 1] - p[:, 0]) + (p[:, 2] - p[:, 3]) + (p[:, 5] - p[:, 4]) + (p[:, 6] - p[:, 7])
         x2 = (p[:, 3] - p[:, 0]) + (p[:, 2] - p[:, 1]) + (p[:, 7] - p[:, 4]) + (p[:, 6] - p[:, 5])
         x3 = (p[:, 4] - p[:, 0]) + (p[:, 5] - p[:, 1]) + (p[:, 6] - p[:, 2]) + (p[:, 7] - p[:, 3])
-        centre = _ratio(_det(x1, x2, x3), _length(x1) * _length(x2) * _length(x3))
-        return np.minimum(_corner_minimum(g, _HEX_CORNERS), centre)
+        return np.minimum(corner_minimum(g.edge, HEX_CORNERS), axes_jacobian(x1, x2, x3))
     if cell_type == "wedge":
-        return np.minimum(_corner_minimum(g, _WEDGE_CORNERS) * 2.0 / math.sqrt(3.0), 1.0)
+        return np.minimum(corner_minimum(g.edge, WEDGE_CORNERS) * 2.0 / math.sqrt(3.0), 1.0)
     if cell_type == "tetra":
-        (e0, l0), (e2, l2), (e3, l3) = g.edge(0, 1), g.edge(2, 0), g.edge(0, 3)
+        (e0, l0, _), (e2, l2, s2), (e3, l3, _) = g.edge(0, 1), g.edge(2, 0), g.edge(0, 3)
         l1, l4, l5 = g.edge(1, 2)[1], g.edge(1, 3)[1], g.edge(2, 3)[1]
-        jac = _det(e2, e0, e3)
+        jac = det(e2, e0, e3)
+        if s2 < 0:  # the stored 0-2 edge runs from 0 to 2; det is odd in it
+            np.negative(jac, out=jac)
         sq = [x * x for x in (l0, l1, l2, l3, l4, l5)]
         prod = np.maximum.reduce([sq[0] * sq[2] * sq[3], sq[0] * sq[1] * sq[4], sq[1] * sq[2] * sq[5], sq[3] * sq[4] * sq[5]])
-        return _ratio(jac * math.sqrt(2.0), np.sqrt(prod))
+        return ratio(jac * math.sqrt(2.0), np.sqrt(prod))
     raise ValueError(f"cell type '{cell_type}', but tetra, hexahedron or wedge is expected")
 
 
 def _edge_ratio(g: _CellGeometry, cell_type: str) -> np.ndarray:
-    lengths = [g.edge(i, j)[1] for i, j in _EDGES[cell_type]]
-    longest, shortest = lengths[0].copy(), lengths[0].copy()
-    for length in lengths[1:]:  # pairwise, in place: no (edges, m) stack (max and min are exact)
-        np.maximum(longest, length, out=longest)
-        np.minimum(shortest, length, out=shortest)
-    return longest / np.maximum(shortest, np.finfo(float).tiny)
+    return longest_over_shortest([g.edge(i, j)[1] for i, j in EDGES[cell_type]])
 
 
 def scaled_jacobian(points: np.ndarray, cell_type: str, cells: np.ndarray) -> np.ndarray:
@@ -170,24 +134,14 @@ def _largest_angle(points: np.ndarray, faces: np.ndarray, centres: np.ndarray, o
         a = [p[2][d] - p[0][d] for d in range(3)]
         b = [p[3][d] - p[1][d] for d in range(3)]
     del p
-    n = [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
-    del a, b
     j = [centres[:, d][neighbour] - centres[:, d][owner] for d in range(3)]
-    dot = n[0] * j[0] + n[1] * j[1] + n[2] * j[2]
-    nn = np.sqrt(n[0] * n[0] + n[1] * n[1] + n[2] * n[2])
-    jj = np.sqrt(j[0] * j[0] + j[1] * j[1] + j[2] * j[2])
-    cos = np.abs(dot) / (nn * jj)
+    cos = face_cosines(a, b, j)
     return float(np.degrees(np.arccos(np.clip(cos.min(), 0.0, 1.0))))
 
 
 def _node_means(g: _CellGeometry) -> np.ndarray:
-    """Node mean of each cell of a batch, (m, 3): the nodes summed in order, then divided (the
-    order numpy's ``points[cells].mean(axis=1)`` sums in, so the figures keep their bits)."""
-    total = g.p[:, 0].copy()
-    for j in range(1, g.p.shape[1]):
-        total += g.p[:, j]
-    total /= g.p.shape[1]
-    return total.T
+    """Node mean of each cell of a batch, (m, 3), summed in node order (``quality_kernels.node_mean``)."""
+    return node_mean([g.p[:, j] for j in range(g.p.shape[1])]).T
 
 
 def _wall_facets(mesh: ChannelMesh, size: int) -> np.ndarray | None:
